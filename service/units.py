@@ -1,0 +1,156 @@
+"""The one place physical quantities are parsed: text or numbers in, SI floats out.
+
+Every physical input of the API accepts either a bare number in the field's
+documented unit (SI, except temperatures in degrees Celsius) or a string made
+of a number and a unit ("30 m", "98 ft", "2.5 mm^2", "3 kW", "35 degC").
+pint checks the dimension.  Conductor sizes additionally accept "12 AWG",
+"4/0 AWG" and "250 kcmil".
+
+One pint registry is built per process (building one takes ~0.1 s); strings
+are split into number and unit here rather than handed whole to pint, which is
+faster and keeps offset units (degC) out of pint's multiplication rules.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+from functools import lru_cache
+
+import pint
+
+from service.core.conductors import SizeSpec
+
+_REGISTRY = pint.UnitRegistry(autoconvert_offset_to_baseunit=False)
+_REGISTRY.formatter.default_format = "~P"
+
+
+class QuantityError(ValueError):
+    """A value that is not an acceptable quantity; ``message`` is for the client."""
+
+    def __init__(self, message: str) -> None:
+        super().__init__(message)
+        self.message = message
+
+
+@dataclass(frozen=True, slots=True)
+class QuantityKind:
+    """What a field holds: its dimension, its bare-number unit and its allowed range.
+
+    ``minimum`` / ``maximum`` are in ``unit``; ``exclusive_minimum`` says whether
+    the minimum itself is refused (zero length, zero power mean nothing).
+    """
+
+    name: str
+    unit: str
+    example: str
+    minimum: float | None = None
+    exclusive_minimum: bool = False
+    maximum: float | None = None
+
+    def describe(self) -> str:
+        bounds = []
+        if self.minimum is not None:
+            bounds.append(f"{'>' if self.exclusive_minimum else '>='} {self.minimum:g} {self.unit}")
+        if self.maximum is not None:
+            bounds.append(f"<= {self.maximum:g} {self.unit}")
+        limits = f" Allowed: {' and '.join(bounds)}." if bounds else ""
+        return (
+            f"{self.name.capitalize()}: a number in {self.unit}, or a string with a unit "
+            f"such as \"{self.example}\".{limits}"
+        )
+
+
+LENGTH = QuantityKind("length", "m", "30 m", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
+TEMPERATURE = QuantityKind("conductor or ambient temperature", "degC", "70 degC", minimum=-60.0, maximum=400.0)
+VOLTAGE = QuantityKind("voltage", "V", "230 V", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
+CURRENT = QuantityKind("current", "A", "16 A", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
+POWER = QuantityKind("power", "W", "3 kW", minimum=0.0, exclusive_minimum=True, maximum=1.0e9)
+RESISTANCE = QuantityKind("resistance", "ohm", "0.35 ohm", minimum=0.0, maximum=1.0e12)
+FREQUENCY = QuantityKind("frequency", "Hz", "50 Hz", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
+
+_NUMBER_AND_UNIT = re.compile(
+    r"^\s*(?P<number>[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(?P<unit>.*?)\s*$"
+)
+# Spellings practitioners type that pint does not read as written.
+_UNIT_SPELLINGS = (
+    (re.compile(r"\b(mm|cm|m|in|ft)2\b"), r"\1^2"),
+    ("²", "^2"),
+    ("Ω", "ohm"),
+    ("Ohm", "ohm"),
+    ("°C", "degC"),
+    ("°F", "degF"),
+)
+
+
+@lru_cache(maxsize=512)
+def _units(text: str) -> pint.Unit:
+    normalised = text
+    for pattern, replacement in _UNIT_SPELLINGS:
+        if isinstance(pattern, str):
+            normalised = normalised.replace(pattern, replacement)
+        else:
+            normalised = pattern.sub(replacement, normalised)
+    return _REGISTRY.parse_units(normalised)
+
+
+def _check_finite(number: float) -> float:
+    if not math.isfinite(number):
+        raise QuantityError("must be a finite number (NaN and infinity are not accepted)")
+    return number
+
+
+def _check_range(value: float, kind: QuantityKind) -> float:
+    if kind.minimum is not None:
+        if kind.exclusive_minimum and value <= kind.minimum:
+            raise QuantityError(f"must be greater than {kind.minimum:g} {kind.unit}, got {value:g} {kind.unit}")
+        if not kind.exclusive_minimum and value < kind.minimum:
+            raise QuantityError(f"must be at least {kind.minimum:g} {kind.unit}, got {value:g} {kind.unit}")
+    if kind.maximum is not None and value > kind.maximum:
+        raise QuantityError(f"must be at most {kind.maximum:g} {kind.unit}, got {value:g} {kind.unit}")
+    return value
+
+
+def _split(text: str) -> tuple[float, str]:
+    match = _NUMBER_AND_UNIT.match(text)
+    if match is None:
+        raise QuantityError(f"'{text[:40]}' is not a number followed by a unit (e.g. '30 m')")
+    return _check_finite(float(match["number"])), match["unit"]
+
+
+def parse_quantity(value: float | int | str, kind: QuantityKind) -> float:
+    """Return ``value`` as a float in ``kind.unit``, or raise QuantityError."""
+    if isinstance(value, bool):  # bool is an int subclass: refuse it explicitly
+        raise QuantityError(f"expected a {kind.name}, got a boolean")
+    if isinstance(value, (int, float)):
+        return _check_range(_check_finite(float(value)), kind)
+    number, unit_text = _split(value)
+    if not unit_text:
+        return _check_range(number, kind)
+    try:
+        unit = _units(unit_text)
+        target = _units(kind.unit)
+        converted = _REGISTRY.Quantity(number, unit).to(target).magnitude
+    except pint.DimensionalityError:
+        raise QuantityError(
+            f"'{unit_text}' is not a unit of {kind.name} (expected something like '{kind.example}')"
+        ) from None
+    except (pint.UndefinedUnitError, pint.errors.DefinitionSyntaxError, AttributeError, TypeError, ValueError):
+        raise QuantityError(f"'{unit_text[:40]}' is not a known unit") from None
+    return _check_range(_check_finite(float(converted)), kind)
+
+
+_AWG = re.compile(r"^\s*(?:(?P<gauge>\d{1,2}|[1-4]/0)\s*AWG|AWG\s*(?P<gauge2>\d{1,2}|[1-4]/0))\s*$", re.IGNORECASE)
+_KCMIL = re.compile(r"^\s*(?P<kcmil>\d+(?:\.\d+)?)\s*(?:kcmil|MCM)\s*$", re.IGNORECASE)
+_AREA = QuantityKind("conductor cross-sectional area", "m^2", "2.5 mm^2", minimum=0.0, exclusive_minimum=True, maximum=1.0e-2)
+
+
+def parse_conductor_size(value: float | int | str) -> SizeSpec:
+    """Parse a conductor size: an area ("2.5 mm^2", or a number in m^2), an AWG gauge or kcmil."""
+    if isinstance(value, str):
+        if match := _AWG.match(value):
+            return SizeSpec.awg(match["gauge"] or match["gauge2"])
+        if match := _KCMIL.match(value):
+            return SizeSpec.kcmil(float(match["kcmil"]))
+    return SizeSpec.metric(parse_quantity(value, _AREA))
