@@ -1,0 +1,33 @@
+"""Start the service: ``python -m service`` (settings from AMPLINE_* variables).
+
+uvicorn is the server: on the 2-core target both uvicorn and granian serve a
+bare endpoint at about the same rate, and uvicorn's behaviour is the one we
+need and know: SIGTERM drains in-flight requests for a bounded time
+(timeout_graceful_shutdown), --workers forks a supervised process pool, and it
+runs the ASGI lifespan so start-up table validation fails fast.
+"""
+
+from __future__ import annotations
+
+import uvicorn
+
+from service.api.settings import Settings
+
+
+def main() -> None:
+    settings = Settings.from_env()
+    uvicorn.run(
+        "service.api.app:create_app",
+        factory=True,
+        host=settings.host,
+        port=settings.port,
+        workers=settings.workers,
+        log_level=settings.log_level.lower(),
+        access_log=False,  # our own middleware logs one structured line per request
+        timeout_graceful_shutdown=settings.graceful_shutdown_s,
+        server_header=False,
+    )
+
+
+if __name__ == "__main__":
+    main()

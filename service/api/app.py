@@ -1,0 +1,69 @@
+"""create_app: the only place routes, handlers, middleware and limits are wired."""
+
+from __future__ import annotations
+
+from litestar import Litestar, Router
+from litestar.datastructures import State
+from litestar.openapi import OpenAPIConfig
+from service.api.contract import FinishedJsonRenderPlugin, FinishedYamlRenderPlugin
+from litestar.openapi.spec import Contact, Tag
+
+from service import API_VERSION
+from service.api.observability import configure_logging, request_logging_middleware
+from service.api.problems import EXCEPTION_HANDLERS, media_type_guard
+from service.api.routes.operational import healthz, readyz
+from service.api.routes.v1.conductors import compute_run_resistance_route, list_conductors
+from service.api.routes.v1.meta import service_meta
+from service.api.settings import Settings
+from service.core.conductors import default_library
+from service.core.data import load_tables
+
+API_DESCRIPTION = (
+    "Electrical calculations as a service for electricians, contractors, estimators and designers: "
+    "conductor data and run resistance, with every step, assumption and source shown. "
+    "Physical inputs take a number in the documented unit or a string with a unit (\"30 m\", \"98 ft\"). "
+    "Numeric outputs are SI and the field name ends with the unit. Errors are RFC 9457 problem+json. "
+    "Results are design aids: local wiring regulations and a qualified, licensed person decide."
+)
+
+
+def _load_data(app: Litestar) -> None:
+    """Load and validate every data table before serving; a defect stops start-up."""
+    load_tables()
+    default_library()
+    app.state.ready = True
+
+
+def openapi_config() -> OpenAPIConfig:
+    return OpenAPIConfig(
+        title="Ampline API",
+        version=API_VERSION,
+        description=API_DESCRIPTION,
+        contact=Contact(name="Ampline engineering"),
+        tags=[
+            Tag(name="conductors", description="Conductor library: sizes, materials, resistance."),
+            Tag(name="meta", description="Service version and data sources."),
+            Tag(name="operations", description="Liveness and readiness probes."),
+        ],
+        path="/schema",
+        render_plugins=[FinishedJsonRenderPlugin(), FinishedYamlRenderPlugin()],
+    )
+
+
+def create_app(settings: Settings | None = None) -> Litestar:
+    settings = settings or Settings.from_env()
+    configure_logging(settings)
+    v1 = Router(path="/v1", route_handlers=[service_meta, list_conductors, compute_run_resistance_route])
+    app = Litestar(
+        route_handlers=[healthz, readyz, v1],
+        exception_handlers=EXCEPTION_HANDLERS,
+        before_request=media_type_guard,
+        on_startup=[_load_data],
+        openapi_config=openapi_config(),
+        request_max_body_size=settings.max_body_bytes,
+        state=State({"ready": False, "settings": settings}),
+        debug=False,
+    )
+    # Wrapped outside litestar's router so 404/405 answers are logged and carry a request id too.
+    app.asgi_handler = request_logging_middleware(app.asgi_handler)
+    return app

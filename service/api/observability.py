@@ -1,0 +1,82 @@
+"""Structured logging: one JSON line per request, with a request id.
+
+The request id comes from the client's X-Request-ID header when it is a sane
+token (so a caller can trace a call across systems) or is generated, and is
+echoed in the response.  Bodies are never logged.
+"""
+
+from __future__ import annotations
+
+import logging
+import re
+import sys
+import time
+import uuid
+
+import structlog
+from litestar.types import ASGIApp, Message, Receive, Scope, Send
+
+from service.api.settings import Settings
+
+REQUEST_ID_HEADER = b"x-request-id"
+_SAFE_REQUEST_ID = re.compile(rb"^[A-Za-z0-9._:-]{1,128}$")
+_QUIET_PATHS = ("/healthz", "/readyz")
+
+
+def configure_logging(settings: Settings) -> None:
+    renderer = structlog.processors.JSONRenderer() if settings.log_format == "json" else structlog.dev.ConsoleRenderer(colors=False)
+    structlog.configure(
+        processors=[
+            structlog.contextvars.merge_contextvars,
+            structlog.processors.add_log_level,
+            structlog.processors.TimeStamper(fmt="iso", utc=True),
+            structlog.processors.format_exc_info,
+            renderer,
+        ],
+        wrapper_class=structlog.make_filtering_bound_logger(getattr(logging, settings.log_level.upper())),
+        logger_factory=structlog.PrintLoggerFactory(sys.stdout),
+        cache_logger_on_first_use=False,
+    )
+
+
+def _request_id(scope: Scope) -> str:
+    for name, value in scope.get("headers", ()):
+        if name == REQUEST_ID_HEADER and _SAFE_REQUEST_ID.match(value):
+            return value.decode("ascii")
+    return uuid.uuid4().hex
+
+
+def request_logging_middleware(app: ASGIApp) -> ASGIApp:
+    """ASGI middleware: request id in, request id out, one log line per request."""
+
+    async def middleware(scope: Scope, receive: Receive, send: Send) -> None:
+        if scope["type"] != "http":
+            await app(scope, receive, send)
+            return
+        request_id = _request_id(scope)
+        structlog.contextvars.clear_contextvars()
+        structlog.contextvars.bind_contextvars(request_id=request_id)
+        started = time.perf_counter()
+        status = 500
+
+        async def send_with_id(message: Message) -> None:
+            nonlocal status
+            if message["type"] == "http.response.start":
+                status = message["status"]
+                message["headers"] = [*message.get("headers", []), (REQUEST_ID_HEADER, request_id.encode("ascii"))]
+            await send(message)
+
+        try:
+            await app(scope, receive, send_with_id)
+        finally:
+            path = scope.get("path", "")
+            level = "debug" if path in _QUIET_PATHS and status < 400 else "info"
+            getattr(structlog.get_logger("ampline.access"), level)(
+                "request",
+                method=scope.get("method"),
+                route=scope.get("path_template") or path,
+                status=status,
+                duration_ms=round((time.perf_counter() - started) * 1000, 3),
+            )
+
+    return middleware

@@ -1,0 +1,230 @@
+"""RFC 9457 problem+json: the body of every 4xx and 5xx answer.
+
+Status policy: 400 for a body that is not valid JSON or does not fit the schema
+(wrong type, unknown field, missing field); 422 for a well-formed body whose
+values cannot be used (wrong unit dimension, out-of-range value, unknown
+conductor size, a network that admits no solution); 413 and 415 for size and
+content type; 500 only for our own defects, with no internals in the body.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import re
+from typing import Any, Iterable
+
+import msgspec
+import structlog
+from litestar import MediaType, Request, Response
+from litestar.exceptions import HTTPException, ValidationException
+from litestar.openapi.datastructures import ResponseSpec
+from litestar.status_codes import HTTP_400_BAD_REQUEST, HTTP_422_UNPROCESSABLE_ENTITY, HTTP_500_INTERNAL_SERVER_ERROR
+
+from litestar.utils.scope.state import ConnectionState
+
+from service.core.errors import CalcError
+
+PROBLEM_MEDIA_TYPE = "application/problem+json"
+PROBLEM_BASE = "https://ampline.invalid/problems/"
+
+
+class FieldProblem(msgspec.Struct, frozen=True, omit_defaults=True):
+    pointer: str
+    """JSON pointer (RFC 6901) into the request body, e.g. /elements/3/resistance ("" is the whole body)."""
+    message: str
+    parameter: str | None = None
+    """For a query or path parameter, its name (pointer is then "")."""
+
+
+class Problem(msgspec.Struct, frozen=True, omit_defaults=True):
+    type: str
+    title: str
+    status: int
+    detail: str
+    instance: str | None = None
+    errors: list[FieldProblem] | None = None
+    how_to_fix: str | None = None
+
+
+class RequestInvalid(Exception):
+    """Raised by the edge when values in a well-formed body cannot be used (422)."""
+
+    def __init__(self, problems: Iterable[tuple[str, str]]) -> None:
+        self.problems = [FieldProblem(pointer, message) for pointer, message in problems]
+        super().__init__("; ".join(f"{p.pointer}: {p.message}" for p in self.problems))
+
+
+def pointer(*parts: str | int) -> str:
+    """JSON pointer from path parts, escaping '~' and '/' per RFC 6901."""
+    return "".join("/" + str(p).replace("~", "~0").replace("/", "~1") for p in parts)
+
+
+_TITLES = {
+    400: "The request body does not fit the schema",
+    401: "Authentication required",
+    403: "Not allowed",
+    404: "No such resource",
+    405: "Method not allowed",
+    413: "Request body too large",
+    415: "Unsupported media type",
+    422: "The request cannot be calculated",
+    429: "Too many requests",
+    500: "Internal error",
+    503: "Service not ready",
+}
+_SLUGS = {400: "invalid-body", 404: "not-found", 405: "method-not-allowed", 413: "body-too-large",
+          415: "unsupported-media-type", 422: "unprocessable", 500: "internal-error", 503: "not-ready"}
+
+
+def problem_response(status: int, detail: str, request: Request | None = None, *, slug: str | None = None,
+                     errors: list[FieldProblem] | None = None, how_to_fix: str | None = None,
+                     headers: dict[str, str] | None = None) -> Response[Problem]:
+    body = Problem(
+        type=PROBLEM_BASE + (slug or _SLUGS.get(status, f"http-{status}")),
+        title=_TITLES.get(status, "Request failed"),
+        status=status,
+        detail=detail,
+        instance=request.url.path if request is not None else None,
+        errors=errors or None,
+        how_to_fix=how_to_fix,
+    )
+    return Response(body, status_code=status, media_type=PROBLEM_MEDIA_TYPE, headers=headers)
+
+
+_MSGSPEC_PATH = re.compile(r" - at `\$(?P<path>[^`]*)`$")
+_PATH_PART = re.compile(r"\.(?P<key>[^.\[]+)|\[(?P<index>\d+)\]")
+_NAMED_FIELD = re.compile(r"Object (?:contains unknown|missing required) field `(?P<name>[^`]+)`")
+
+
+def _path_pointer(path: str) -> str:
+    """msgspec's "$.a[0].b" (without the "$") as the JSON pointer "/a/0/b"."""
+    parts = [m["key"] if m["key"] is not None else int(m["index"]) for m in _PATH_PART.finditer(path)]
+    return pointer(*parts)
+
+
+def _body_problem(key: str, message: str) -> FieldProblem:
+    """One body error: litestar gives the failing path after 'data' as ``key``, or 'data' for the root."""
+    where = "" if key in ("data", "") else _path_pointer("." + key.removeprefix("data."))
+    if match := _MSGSPEC_PATH.search(message):  # a path inside the message wins: it is the full one
+        where, message = _path_pointer(match["path"]), message[: match.start()]
+    if named := _NAMED_FIELD.match(message):
+        where += pointer(named["name"])
+        message = ("unknown field: not accepted (check the spelling against the schema)"
+                   if "unknown" in message else "required field is missing")
+    return FieldProblem(where, message)
+
+
+def _validation_problems(exc: ValidationException) -> list[FieldProblem]:
+    extra = exc.extra if isinstance(exc.extra, list) else [exc.extra] if exc.extra else []
+    problems = []
+    for item in extra:
+        if not isinstance(item, dict):
+            problems.append(FieldProblem("", str(item)))
+        elif item.get("source", "body") == "body":
+            problems.append(_body_problem(str(item.get("key", "")), str(item.get("message", ""))))
+        else:
+            problems.append(FieldProblem("", str(item.get("message", "")), parameter=str(item.get("key"))))
+    if not problems:
+        problems.append(_body_problem("", exc.detail or "invalid request"))
+    return problems
+
+
+def _non_finite_numbers(body: bytes) -> list[FieldProblem]:
+    """Pointers to NaN, Infinity or overflowing numbers in a body strict JSON refused.
+
+    Clients serialising floats often emit NaN/Infinity tokens (not JSON) or 1e999;
+    Python's lenient parser reads them so the client can be told *which* field.
+    """
+    found: list[FieldProblem] = []
+
+    def walk(value: Any, path: tuple[str | int, ...]) -> None:
+        if isinstance(value, float) and not math.isfinite(value):
+            found.append(FieldProblem(pointer(*path), "must be a finite number (NaN and infinity are not accepted)"))
+        elif isinstance(value, dict):
+            for key, item in value.items():
+                walk(item, (*path, key))
+        elif isinstance(value, list):
+            for index, item in enumerate(value):
+                walk(item, (*path, index))
+
+    try:
+        walk(json.loads(body), ())
+    except (ValueError, RecursionError):
+        return []
+    return found
+
+
+def _received_body(request: Request) -> bytes:
+    body = ConnectionState.from_scope(request.scope).body
+    return body if isinstance(body, bytes) else b""
+
+
+def handle_validation(request: Request, exc: ValidationException) -> Response[Problem]:
+    problems = _validation_problems(exc)
+    if not exc.extra:  # the body was not even JSON: find NaN/Infinity to name the field
+        problems = _non_finite_numbers(_received_body(request)) or problems
+    summary = "; ".join(f"{p.parameter or p.pointer or '(body)'}: {p.message}" for p in problems)
+    return problem_response(HTTP_400_BAD_REQUEST, summary, request, errors=problems)
+
+
+def handle_http(request: Request, exc: HTTPException) -> Response[Problem]:
+    status = exc.status_code
+    detail = exc.detail if status < 500 else "The service could not complete the request."
+    return problem_response(status, detail or _TITLES.get(status, "Request failed"), request, headers=exc.headers)
+
+
+def handle_request_invalid(request: Request, exc: RequestInvalid) -> Response[Problem]:
+    return problem_response(HTTP_422_UNPROCESSABLE_ENTITY, str(exc), request, slug="invalid-value", errors=exc.problems)
+
+
+def handle_calc_error(request: Request, exc: CalcError) -> Response[Problem]:
+    errors = [FieldProblem(pointer(*b.location), b.message) for b in exc.blames]
+    return problem_response(HTTP_422_UNPROCESSABLE_ENTITY, exc.detail, request, slug=exc.code,
+                            errors=errors, how_to_fix=exc.how_to_fix or None)
+
+
+def handle_unexpected(request: Request, exc: Exception) -> Response[Problem]:
+    structlog.get_logger("ampline.error").error("unhandled_exception", exc_info=exc, path=request.url.path)
+    return problem_response(HTTP_500_INTERNAL_SERVER_ERROR, "The service could not complete the request.", request)
+
+
+EXCEPTION_HANDLERS: dict[Any, Any] = {
+    ValidationException: handle_validation,
+    HTTPException: handle_http,
+    RequestInvalid: handle_request_invalid,
+    CalcError: handle_calc_error,
+    HTTP_500_INTERNAL_SERVER_ERROR: handle_unexpected,
+    Exception: handle_unexpected,
+}
+
+
+def _spec(description: str, example: Problem) -> ResponseSpec:
+    from litestar.openapi.spec import Example
+
+    return ResponseSpec(data_container=Problem, description=description, media_type=PROBLEM_MEDIA_TYPE, generate_examples=False,
+                        examples=[Example(summary=example.title, value=msgspec.to_builtins(example))])
+
+
+def error_responses(*statuses: int) -> dict[int, ResponseSpec]:
+    """Documented problem+json responses for a route (always includes 400, 413, 415, 500)."""
+    examples = {
+        400: Problem(PROBLEM_BASE + "invalid-body", _TITLES[400], 400, "/length: Expected `float | str`, got `bool`",
+                     errors=[FieldProblem("/length", "Expected `float | str`, got `bool`")]),
+        413: Problem(PROBLEM_BASE + "body-too-large", _TITLES[413], 413, "Request Entity Too Large"),
+        415: Problem(PROBLEM_BASE + "unsupported-media-type", _TITLES[415], 415, "Send the body as application/json."),
+        422: Problem(PROBLEM_BASE + "invalid-value", _TITLES[422], 422, "/length: 'kg' is not a unit of length (expected something like '30 m')",
+                     errors=[FieldProblem("/length", "'kg' is not a unit of length (expected something like '30 m')")]),
+        500: Problem(PROBLEM_BASE + "internal-error", _TITLES[500], 500, "The service could not complete the request."),
+    }
+    wanted = sorted({400, 413, 415, 500, *statuses})
+    return {s: _spec(_TITLES[s], examples[s]) for s in wanted if s in examples}
+
+
+def media_type_guard(request: Request) -> None:
+    """Refuse a body that is not JSON with 415 before anything tries to decode it."""
+    if request.method in ("POST", "PUT", "PATCH"):
+        content_type = request.headers.get("content-type", "")
+        media = content_type.split(";", 1)[0].strip().lower()
+        if media != MediaType.JSON and not (media.startswith("application/") and media.endswith("+json")):
+            raise HTTPException(status_code=415, detail="Send the body as application/json.")

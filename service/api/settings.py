@@ -1,0 +1,50 @@
+"""Service settings, read from environment variables once, inside create_app."""
+
+from __future__ import annotations
+
+import os
+from dataclasses import dataclass, fields
+from typing import Mapping
+
+PREFIX = "AMPLINE_"
+
+
+@dataclass(frozen=True, slots=True)
+class Settings:
+    """Every knob of the service. Each field is the env var ``AMPLINE_<NAME>``."""
+
+    host: str = "127.0.0.1"
+    """Interface the server binds to."""
+    port: int = 8000
+    """TCP port the server listens on."""
+    workers: int = 1
+    """Server worker processes (the service is stateless, so any number works)."""
+    log_level: str = "info"
+    """debug, info, warning or error."""
+    log_format: str = "json"
+    """json (one object per line) or console (human-readable)."""
+    max_body_bytes: int = 1_048_576
+    """Largest accepted request body, in bytes; larger bodies get 413."""
+    graceful_shutdown_s: int = 10
+    """Seconds in-flight requests get to finish after SIGTERM."""
+
+    def __post_init__(self) -> None:
+        if self.log_format not in ("json", "console"):
+            raise ValueError("AMPLINE_LOG_FORMAT must be 'json' or 'console'")
+        if self.log_level.lower() not in ("debug", "info", "warning", "error"):
+            raise ValueError("AMPLINE_LOG_LEVEL must be debug, info, warning or error")
+        if not 1 <= self.port <= 65535:
+            raise ValueError("AMPLINE_PORT must be 1-65535")
+        if self.max_body_bytes < 1024 or self.workers < 1 or self.graceful_shutdown_s < 0:
+            raise ValueError("AMPLINE_MAX_BODY_BYTES >= 1024, AMPLINE_WORKERS >= 1, AMPLINE_GRACEFUL_SHUTDOWN_S >= 0")
+
+    @classmethod
+    def from_env(cls, env: Mapping[str, str] | None = None) -> Settings:
+        env = os.environ if env is None else env
+        values: dict[str, object] = {}
+        for f in fields(cls):
+            raw = env.get(PREFIX + f.name.upper())
+            if raw is None:
+                continue
+            values[f.name] = int(raw) if f.type == "int" else raw
+        return cls(**values)  # type: ignore[arg-type]
