@@ -1,0 +1,53 @@
+"""Sparse LU factorisation of MNA matrices (SuperLU through scipy).
+
+Why splu with permc_spec="MMD_AT_PLUS_A": measured on this project's 2-core
+machine with random 4-neighbour resistor grids plus one voltage source
+(median of 3, factorise + solve, scipy 1.17):
+
+    nodes      MMD_AT_PLUS_A   COLAMD    MMD_ATA   RCM + NATURAL
+    10k        0.020 s         0.027 s   0.025 s   0.074 s
+    40k        0.12 s          0.17 s    0.18 s    0.77 s
+    100k       0.43 s          0.56 s    0.60 s    5.9 s
+    1M         9.9 s / 1.8 GB  12.6 s / 3.3 GB (peak RSS)
+
+MNA matrices are structurally symmetric apart from the few source rows, so a
+minimum-degree ordering of A^T + A fits them best; COLAMD (spsolve's default)
+fills in about twice as much at 1M nodes.  A symmetric RCM ordering gives a
+band whose fill grows as n^1.5.  spsolve and splu run the same SuperLU code;
+splu keeps the factors, which the Thevenin requests and the collapse
+diagnosis reuse (one extra triangular solve instead of a new factorisation).
+SymmetricMode / diag_pivot_thresh tweaks changed nothing measurable.
+"""
+
+from __future__ import annotations
+
+import warnings
+
+import numpy as np
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
+
+from .errors import SingularNetworkError
+
+ORDERING = "MMD_AT_PLUS_A"
+
+
+class Factor:
+    """An LU factorisation that raises SingularNetworkError instead of RuntimeError."""
+
+    __slots__ = ("_lu",)
+
+    def __init__(self, matrix: sp.csc_matrix) -> None:
+        try:
+            with warnings.catch_warnings():
+                warnings.simplefilter("error", spla.MatrixRankWarning)
+                self._lu = spla.splu(matrix, permc_spec=ORDERING)
+        except (RuntimeError, spla.MatrixRankWarning) as exc:
+            raise SingularNetworkError(
+                f"the network equations are singular ({exc})",
+                how_to_fix="look for parts whose voltage or current is not determined, e.g. an "
+                "inductor and capacitor exactly in resonance, or ideal elements in conflict",
+            ) from exc
+
+    def solve(self, rhs: np.ndarray) -> np.ndarray:
+        return self._lu.solve(rhs)

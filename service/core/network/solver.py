@@ -1,0 +1,292 @@
+"""solve(): the one entry point of the network solver.
+
+Pipeline: expand (validate, map nodes, reduce to primitives) -> topology
+checks -> MNA assembly -> LU solve, or damped Newton when constant-current /
+constant-power loads are present -> results, Thevenin equivalents, and
+finiteness checks.  Everything is a pure function of its inputs.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from . import model as m
+from .assemble import mna_coo, rhs_vector, to_csc
+from .errors import (
+    ConvergenceError,
+    InvalidValueError,
+    LoadUndervoltageError,
+    NonFiniteResultError,
+    SingularNetworkError,
+    VoltageCollapseError,
+)
+from .expand import expand
+from .linear import Factor
+from .loads import max_transferable_power, upper_operating_voltage
+from .newton import port_voltage, solve_nonlinear
+from .primitives import Primitives
+from .results import (
+    Solution,
+    SolvedState,
+    kcl_residual,
+    kind_classes,
+    power_totals,
+    primitive_values,
+)
+from .thevenin import equivalents, port_values, thevenin_impedances
+
+# A direct solve leaves KCL residuals around 1e-15 of the largest current; a
+# residual above this fraction means the factorisation lost all accuracy
+# (numerically singular matrix, e.g. an LC pair tuned almost exactly).
+ILL_CONDITIONED = 1e-6
+
+
+def _check_options(o: m.SolveOptions) -> None:
+    bad = []
+    if not isinstance(o.max_iterations, int) or o.max_iterations < 1:
+        bad.append("max_iterations must be an integer >= 1")
+    for name in ("tolerance_a", "relative_tolerance"):
+        v = getattr(o, name)
+        if not (isinstance(v, (int, float)) and math.isfinite(v) and v > 0):
+            bad.append(f"{name} must be a finite number > 0")
+    g = o.load_guard_voltage_pu
+    if not (isinstance(g, (int, float)) and 0 < g <= 1):
+        bad.append("load_guard_voltage_pu must be in (0, 1]")
+    if o.on_load_undervoltage not in ("error", "constant_impedance"):
+        bad.append('on_load_undervoltage must be "error" or "constant_impedance"')
+    if bad:
+        raise InvalidValueError("; ".join(bad), how_to_fix="correct the solver options")
+
+
+def solve(network: m.Network, options: m.SolveOptions | None = None) -> Solution:
+    """Solve a network; raises a NetworkError subclass when it has no answer."""
+    options = options or m.SolveOptions()
+    _check_options(options)
+    from .topology import check_topology
+
+    prims, table, positions = expand(network, float(options.load_guard_voltage_pu))
+    ids = [e.id for e in network.elements]
+    size = prims.n + prims.m
+    coo = mna_coo(prims)
+    matrix = to_csc(*coo, size)
+    check_topology(prims, table, ids, positions, matrix)
+    pairs = [(table.index(a), table.index(b)) for a, b in options.thevenin_between]
+
+    rhs = rhs_vector(prims)
+    factor = None
+    guarded = np.zeros(prims.nl_a.size, dtype=bool)
+    if prims.nl_a.size == 0:
+        factor = Factor(matrix)
+        x = factor.solve(rhs)
+        nl_current = np.zeros(0, dtype=prims.dtype)
+        solves, converged, mismatch = 1, True, None
+    else:
+        nr = solve_nonlinear(
+            prims, coo, rhs, options.max_iterations, options.tolerance_a, options.relative_tolerance
+        )
+        x, nl_current, guarded = nr.x, nr.load_current, nr.guarded
+        solves, converged, mismatch = nr.solves, nr.converged, nr.mismatch_a
+        if not converged or (guarded.any() and options.on_load_undervoltage == "error"):
+            _raise_load_failure(prims, coo, rhs, nr, ids, positions, table)
+    if not np.all(np.isfinite(x)):
+        raise NonFiniteResultError(
+            "the network equations have no finite solution in double precision",
+            how_to_fix="check for extreme element values (e.g. 1e-300 ohm or 1e300 V), ideal elements "
+            "in conflict or an exact LC resonance",
+        )
+
+    if factor is not None and _may_cancel(prims):
+        _check_conditioning(factor, matrix, size, prims.dtype)
+    volts, amps = primitive_values(prims, x, nl_current)
+    if not all(np.all(np.isfinite(a)) for a in (*volts.values(), *amps.values())):
+        raise NonFiniteResultError(
+            "element currents overflow double precision",
+            how_to_fix="check for extreme element values (e.g. 1e-300 ohm or 1e300 V)",
+        )
+    kcl = kcl_residual(prims, amps)
+    scale = max(
+        float(np.max(np.abs(prims.adm_y), initial=0.0)) * float(np.max(np.abs(x[: prims.n]), initial=0.0)),
+        float(np.max(np.abs(x[prims.n:]), initial=0.0)),
+        float(np.max(np.abs(prims.inj_j), initial=0.0)),
+        1e-30,
+    )
+    if kcl > ILL_CONDITIONED * scale + options.tolerance_a * 10:
+        raise SingularNetworkError(
+            f"the network equations are numerically singular (KCL residual {kcl:.3g} A after the solve)",
+            how_to_fix="look for an LC pair in near-exact resonance or values spanning too many "
+            "orders of magnitude",
+        )
+    totals, balance = power_totals(prims, kind_classes(network.elements), volts, amps)
+
+    thevenin = ()
+    if pairs:
+        if factor is None:  # nonlinear loads: use their operating-point impedance
+            factor = Factor(_operating_point_matrix(prims, coo, x, nl_current))
+        zth = thevenin_impedances(factor, size, pairs, prims.dtype)
+        voc = port_values(x, pairs)
+        thevenin = equivalents(options.thevenin_between, voc, zth)
+
+    numbers = [kcl, balance, mismatch if mismatch is not None else 0.0, *vars_of(totals)]
+    for t in thevenin:
+        numbers += [t.resistance_ohm, t.reactance_ohm, t.open_circuit_voltage.magnitude]
+    if not (all(math.isfinite(v) for v in numbers) and np.all(np.isfinite(nl_current))):
+        raise NonFiniteResultError(
+            "the solution contains non-finite values",
+            how_to_fix="check for extreme element values (e.g. 1e-300 ohm or 1e300 V)",
+        )
+    guarded_ids = tuple(ids[o] for o in prims.nl_owner[guarded])
+    state = SolvedState(network, prims, table, x, volts, amps, positions, guarded)
+    return Solution(
+        frequency_hz=float(network.frequency_hz or 0.0),
+        reference_node=network.reference_node,
+        node_count=prims.n,
+        converged=converged,
+        iterations=solves,
+        final_mismatch_a=kcl if mismatch is None else mismatch,
+        max_kcl_residual_a=kcl,
+        power_balance_residual_va=balance,
+        totals=totals,
+        thevenin=thevenin,
+        guarded_loads=guarded_ids,
+        _state=state,
+    )
+
+
+# cond(A) above this leaves fewer than ~3 correct digits in double precision.
+COND_LIMIT = 1e13
+
+
+def _may_cancel(prims: Primitives) -> bool:
+    """True when inductive and capacitive parts coexist, so admittances can cancel.
+
+    Without both signs of reactance, every admittance has Re >= 0 and the same
+    sign of Im, and a connected network (checked by topology.py) gives a
+    nonsingular matrix; an L and a C tuned to resonance can make it exactly
+    singular, which SuperLU does not always notice (a pivot of 1e-17 instead
+    of 0, producing currents of 1e16 A).
+    """
+    if prims.dtype is not np.complex128:
+        return False
+    im = np.concatenate([prims.adm_y.imag, -prims.br_z.imag])
+    return bool(np.any(im > 0) and np.any(im < 0))
+
+
+def _check_conditioning(factor: Factor, matrix, size: int, dtype) -> None:
+    """Lower bound on cond_inf(A) from one solve with a fixed pseudo-random right-hand side.
+
+    ||A^-1 r|| / ||r|| <= ||A^-1||, so a large ratio proves near-singularity;
+    a random r has a component along the near-null direction with probability
+    one, so an exact resonance is not missed.  Costs one triangular solve.
+    """
+    r = np.random.default_rng(12345).standard_normal(size).astype(dtype)
+    z = factor.solve(r)
+    norm_a = float(abs(matrix).sum(axis=1).max())
+    bound = float(np.max(np.abs(z))) / float(np.max(np.abs(r))) * norm_a
+    if not math.isfinite(bound) or bound > COND_LIMIT:
+        raise SingularNetworkError(
+            f"the network equations are numerically singular (condition number above {bound:.2g})",
+            how_to_fix="an inductor and a capacitor appear to be in exact resonance (series across a "
+            "source, or parallel with nothing else to define a voltage); add resistance or change the "
+            "frequency",
+        )
+
+
+def vars_of(totals) -> list[float]:
+    return [getattr(totals, f) for f in totals.__slots__]
+
+
+def _operating_point_admittance(prims: Primitives, x, nl_current) -> np.ndarray:
+    v = port_voltage(x, prims.nl_a, prims.nl_b)
+    at_guard = prims.nl_c * prims.nl_vg ** (prims.nl_k - 2.0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        y = np.where(np.abs(v) > 0, nl_current / np.where(v == 0, 1, v), at_guard)
+    return y.astype(prims.dtype) if prims.dtype is np.complex128 else y.real
+
+
+def _operating_point_matrix(prims: Primitives, coo, x, nl_current):
+    y = _operating_point_admittance(prims, x, nl_current)
+    return to_csc(*mna_coo(prims, prims.nl_a, prims.nl_b, y), prims.n + prims.m)
+
+
+def _raise_load_failure(prims: Primitives, coo, rhs, nr, ids, positions, table) -> None:
+    """Explain a failed nonlinear solve with each load's Thevenin maximum power.
+
+    Every nonlinear load is frozen at the impedance it has at the last
+    iterate; for load l the network seen by it (all the others frozen, l
+    removed) is a Thevenin source: with Z_in the impedance seen at l's
+    terminals with l still in place (one extra solve with the factorised
+    matrix), removing l's admittance y_l gives Zth = 1 / (1/Z_in - y_l), and
+    l's voltage v_l = Vth / (1 + Zth y_l) gives Vth.  The maximum transfer is
+    then exact for a single nonlinear load and a first-order estimate when
+    several interact.
+    """
+    size = prims.n + prims.m
+    y = _operating_point_admittance(prims, nr.x, nr.load_current)
+    factor = Factor(_operating_point_matrix(prims, coo, nr.x, nr.load_current))
+    x_op = factor.solve(rhs)
+    pairs = list(zip(prims.nl_a.tolist(), prims.nl_b.tolist()))
+    z_in = thevenin_impedances(factor, size, pairs, prims.dtype)
+    v_l = port_values(x_op, pairs)
+    y = y.astype(np.complex128)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        zth = 1.0 / (1.0 / z_in - y)
+    vth = v_l * (1.0 + zth * y)
+    s0 = prims.nl_s0.astype(np.complex128)
+    records, collapse = [], []
+    for j in range(len(pairs)):
+        phi = float(np.angle(s0[j])) if s0[j] != 0 else 0.0
+        smax = max_transferable_power(complex(vth[j]), complex(zth[j]), phi)
+        rec = {
+            "element": ids[prims.nl_owner[j]],
+            "model": "constant_power" if prims.nl_k[j] == 0 else "constant_current",
+            "rated_power_w": float(s0[j].real),
+            "rated_apparent_power_va": float(abs(s0[j])),
+            "max_power_w": smax * math.cos(phi) if math.isfinite(smax) else None,
+            "max_apparent_power_va": smax if math.isfinite(smax) else None,
+            "iterate_voltage_pu": float(abs(v_l[j]) / prims.nl_v0[j]),
+            "operating_voltage_pu": None,
+            "thevenin_voltage_v": float(abs(vth[j])) if np.isfinite(vth[j]) else None,
+        }
+        if prims.nl_k[j] == 0 and np.isfinite(vth[j]) and np.isfinite(zth[j]):
+            v_up = upper_operating_voltage(complex(vth[j]), complex(zth[j]), complex(s0[j]))
+            rec["operating_voltage_pu"] = None if v_up is None else v_up / float(prims.nl_v0[j])
+        records.append(rec)
+        if prims.nl_k[j] == 0 and abs(s0[j]) > smax * (1 + 1e-9):
+            collapse.append(rec)
+    if collapse:
+        shown = "; ".join(
+            f"{r['element']} asks {r['rated_power_w']:.6g} W, at most {r['max_power_w']:.6g} W can be delivered"
+            for r in collapse[:5]
+        )
+        raise VoltageCollapseError(
+            f"constant-power load(s) ask for more power than the network can transfer: {shown}",
+            how_to_fix="reduce those loads, shorten or enlarge the supply path (lower impedance), "
+            "or raise the source voltage",
+            element_ids=[r["element"] for r in collapse],
+            element_positions=positions,
+            data={"loads": collapse, "iterations": nr.solves},
+        )
+    if not nr.converged:
+        raise ConvergenceError(
+            f"the load-flow iteration did not converge in {nr.solves - 1} Newton steps "
+            f"(largest KCL mismatch {nr.mismatch_a:.3g} A)",
+            how_to_fix="check for loads close to the network's transfer limit, or raise max_iterations",
+            element_ids=[r["element"] for r in records],
+            element_positions=positions,
+            data={"loads": records, "iterations": nr.solves, "mismatch_a": nr.mismatch_a},
+        )
+    low = [r for r, g in zip(records, nr.guarded) if g]
+    shown = "; ".join(
+        f"{r['element']} at {r['operating_voltage_pu'] or r['iterate_voltage_pu']:.3g} pu" for r in low[:5]
+    )
+    raise LoadUndervoltageError(
+        f"load(s) would operate below the guard voltage, where constant-power/current behaviour is "
+        f"not credible: {shown}",
+        how_to_fix="strengthen the supply to those loads, or solve with on_load_undervoltage="
+        '"constant_impedance" to see the network with them modelled as impedances',
+        element_ids=[r["element"] for r in low],
+        element_positions=positions,
+        data={"loads": low},
+    )
