@@ -112,7 +112,12 @@ def _check_range(value: float, kind: QuantityKind) -> float:
     return value
 
 
+_NON_FINITE_WORD = re.compile(r"^\s*[-+]?(nan|inf|infinity)\b", re.IGNORECASE)
+
+
 def _split(text: str) -> tuple[float, str]:
+    if _NON_FINITE_WORD.match(text):
+        raise QuantityError("must be a finite number (NaN and infinity are not accepted)")
     match = _NUMBER_AND_UNIT.match(text)
     if match is None:
         raise QuantityError(f"'{text[:40]}' is not a number followed by a unit (e.g. '30 m')")

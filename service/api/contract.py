@@ -17,28 +17,80 @@ import yaml
 from litestar import Litestar, Request
 from litestar.openapi.plugins import JsonRenderPlugin, YamlRenderPlugin
 
+from litestar.openapi.spec import Example
+
 from service.api.schemas.v1.common import Strict
 
 CONTRACT_PATH = Path(__file__).resolve().parents[2] / "openapi" / "v1" / "openapi.yaml"
 
+# operationId -> {summary: request value}: litestar only writes request-body
+# examples into the schema, without their names; the contract moves them to the
+# media type, where OpenAPI keeps a summary for each scenario.
+_REQUEST_EXAMPLES: dict[str, dict[str, Any]] = {}
 
-def _strict_struct_names() -> set[str]:
-    names: set[str] = set()
+
+def request_examples(operation_id: str, named: dict[str, msgspec.Struct]) -> list[Example]:
+    """Register a route's named request examples; returns them for ``Body(examples=...)``."""
+    values = {name: msgspec.to_builtins(value) for name, value in named.items()}
+    _REQUEST_EXAMPLES[operation_id] = values
+    return [Example(summary=name, value=value) for name, value in values.items()]
+
+
+def _example_key(summary: str) -> str:
+    return "-".join("".join(ch if ch.isalnum() else " " for ch in summary.lower()).split())[:60]
+
+
+def _name_request_examples(document: dict[str, Any]) -> None:
+    for item in document.get("paths", {}).values():
+        for op in item.values():
+            named = _REQUEST_EXAMPLES.get(op.get("operationId", "")) if isinstance(op, dict) else None
+            if not named or "requestBody" not in op:
+                continue
+            media = op["requestBody"]["content"]["application/json"]
+            schema = media["schema"]
+            schema.pop("examples", None)
+            if list(schema) == ["allOf"] and len(schema["allOf"]) == 1:
+                media["schema"] = schema["allOf"][0]
+            media["examples"] = {_example_key(name): {"summary": name, "value": value} for name, value in named.items()}
+
+
+def _strict_structs() -> dict[str, type[Strict]]:
+    found: dict[str, type[Strict]] = {}
     pending = list(Strict.__subclasses__())
     while pending:
         cls = pending.pop()
-        names.add(cls.__name__)
+        found[cls.__name__] = cls
         pending.extend(cls.__subclasses__())
-    return names
+    return found
+
+
+_CONSTRAINTS = ("minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum", "minLength", "maxLength",
+                "pattern", "minItems", "maxItems")
+
+
+def _copy_union_constraints(ours: dict[str, Any], msgspec_schema: dict[str, Any]) -> None:
+    """litestar drops the bounds of union members (number | string); msgspec's own schema keeps them."""
+    for name, prop in ours.get("properties", {}).items():
+        theirs = msgspec_schema.get("properties", {}).get(name, {})
+        branches, their_branches = prop.get("oneOf"), theirs.get("anyOf")
+        if not branches or not their_branches or len(branches) != len(their_branches):
+            continue
+        for branch, their_branch in zip(branches, their_branches):
+            if branch.get("type") == their_branch.get("type"):
+                branch.update({k: v for k, v in their_branch.items() if k in _CONSTRAINTS})
 
 
 def finish_contract(document: dict[str, Any]) -> dict[str, Any]:
     """Return a copy of the generated document with request structs closed to unknown fields."""
     finished = msgspec.json.decode(msgspec.json.encode(document))  # plain builtins, a deep copy
-    strict = _strict_struct_names()
+    _name_request_examples(finished)
+    strict = _strict_structs()
+    _, msgspec_components = msgspec.json.schema_components(list(strict.values()))
     for name, schema in finished.get("components", {}).get("schemas", {}).items():
-        if name.split("_")[-1] in strict or name in strict:
+        struct_name = name if name in strict else name.split("_")[-1]
+        if struct_name in strict:
             schema["additionalProperties"] = False
+            _copy_union_constraints(schema, msgspec_components.get(struct_name, {}))
     return finished
 
 
@@ -62,10 +114,13 @@ class FinishedYamlRenderPlugin(YamlRenderPlugin):
 
 def main() -> None:
     """Write the committed contract: ``python -m service.api.contract``."""
+    # Import this module by name: run as __main__ it is a second copy whose
+    # example registry the routes never filled.
+    from service.api import contract
     from service.api.app import create_app
 
     CONTRACT_PATH.parent.mkdir(parents=True, exist_ok=True)
-    CONTRACT_PATH.write_text(contract_yaml(create_app()), encoding="utf-8")
+    CONTRACT_PATH.write_text(contract.contract_yaml(create_app()), encoding="utf-8")
     sys.stdout.write(f"wrote {CONTRACT_PATH}\n")
 
 

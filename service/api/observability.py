@@ -73,6 +73,7 @@ def request_logging_middleware(app: ASGIApp) -> ASGIApp:
             level = "debug" if path in _QUIET_PATHS and status < 400 else "info"
             getattr(structlog.get_logger("ampline.access"), level)(
                 "request",
+                request_id=request_id,  # explicit too, so processors that skip contextvars keep it
                 method=scope.get("method"),
                 route=scope.get("path_template") or path,
                 status=status,

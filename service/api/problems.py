@@ -21,7 +21,7 @@ from litestar.exceptions import HTTPException, ValidationException
 from litestar.openapi.datastructures import ResponseSpec
 from litestar.status_codes import HTTP_400_BAD_REQUEST, HTTP_422_UNPROCESSABLE_ENTITY, HTTP_500_INTERNAL_SERVER_ERROR
 
-from litestar.utils.scope.state import ConnectionState
+from litestar.utils.scope.state import ScopeState
 
 from service.core.errors import CalcError
 
@@ -156,7 +156,7 @@ def _non_finite_numbers(body: bytes) -> list[FieldProblem]:
 
 
 def _received_body(request: Request) -> bytes:
-    body = ConnectionState.from_scope(request.scope).body
+    body = ScopeState.from_scope(request.scope).body
     return body if isinstance(body, bytes) else b""
 
 
@@ -170,6 +170,10 @@ def handle_validation(request: Request, exc: ValidationException) -> Response[Pr
 
 def handle_http(request: Request, exc: HTTPException) -> Response[Problem]:
     status = exc.status_code
+    if status == HTTP_400_BAD_REQUEST:  # a body strict JSON refused: say which field if it is NaN/Infinity
+        if found := _non_finite_numbers(_received_body(request)):
+            summary = "; ".join(f"{p.pointer or '(body)'}: {p.message}" for p in found)
+            return problem_response(HTTP_400_BAD_REQUEST, summary, request, errors=found)
     detail = exc.detail if status < 500 else "The service could not complete the request."
     return problem_response(status, detail or _TITLES.get(status, "Request failed"), request, headers=exc.headers)
 
@@ -206,8 +210,8 @@ def _spec(description: str, example: Problem) -> ResponseSpec:
                         examples=[Example(summary=example.title, value=msgspec.to_builtins(example))])
 
 
-def error_responses(*statuses: int) -> dict[int, ResponseSpec]:
-    """Documented problem+json responses for a route (always includes 400, 413, 415, 500)."""
+def error_responses(*statuses: int, body: bool = True) -> dict[int, ResponseSpec]:
+    """Documented problem+json responses for a route: 400 and 500 always, 413 and 415 when it takes a body."""
     examples = {
         400: Problem(PROBLEM_BASE + "invalid-body", _TITLES[400], 400, "/length: Expected `float | str`, got `bool`",
                      errors=[FieldProblem("/length", "Expected `float | str`, got `bool`")]),
@@ -216,8 +220,9 @@ def error_responses(*statuses: int) -> dict[int, ResponseSpec]:
         422: Problem(PROBLEM_BASE + "invalid-value", _TITLES[422], 422, "/length: 'kg' is not a unit of length (expected something like '30 m')",
                      errors=[FieldProblem("/length", "'kg' is not a unit of length (expected something like '30 m')")]),
         500: Problem(PROBLEM_BASE + "internal-error", _TITLES[500], 500, "The service could not complete the request."),
+        503: Problem(PROBLEM_BASE + "not-ready", _TITLES[503], 503, "Data tables are not loaded yet."),
     }
-    wanted = sorted({400, 413, 415, 500, *statuses})
+    wanted = sorted({400, 500, *((413, 415) if body else ()), *statuses})
     return {s: _spec(_TITLES[s], examples[s]) for s in wanted if s in examples}
 
 

@@ -46,5 +46,11 @@ class Settings:
             raw = env.get(PREFIX + f.name.upper())
             if raw is None:
                 continue
-            values[f.name] = int(raw) if f.type == "int" else raw
+            if f.type == "int":
+                try:
+                    values[f.name] = int(raw)
+                except ValueError:
+                    raise ValueError(f"{PREFIX}{f.name.upper()} must be a whole number, got {raw!r}") from None
+            else:
+                values[f.name] = raw
         return cls(**values)  # type: ignore[arg-type]

@@ -11,6 +11,7 @@ from litestar.openapi.datastructures import ResponseSpec
 from litestar.openapi.spec import Example
 from litestar.params import Body, Parameter
 
+from service.api.contract import request_examples
 from service.api.inputs import FieldReader
 from service.api.problems import error_responses
 from service.api.schemas.v1.common import GENERAL_CAUTIONS, CalculationNotes, SourceRef, Step
@@ -51,7 +52,7 @@ def source_refs(*table_ids: str) -> list[SourceRef]:
         "IEC 60228 (class 1 solid, class 2 stranded, class 5 flexible; copper and aluminium) and AWG/kcmil sizes "
         "from NEC Chapter 9 Table 8 (area by the ASTM B258 formula). Filter by material, class and size system."
     ),
-    responses=error_responses(),
+    responses=error_responses(body=False),
     tags=["conductors"],
 )
 async def list_conductors(
@@ -138,8 +139,7 @@ _EXAMPLES = {
 async def compute_run_resistance_route(
     data: Annotated[
         RunResistanceRequest,
-        Body(media_type=RequestEncodingType.JSON,
-             examples=[Example(summary=name, value=msgspec.to_builtins(req)) for name, req in _EXAMPLES.items()]),
+        Body(media_type=RequestEncodingType.JSON, examples=request_examples("computeRunResistance", _EXAMPLES)),
     ],
 ) -> RunResistanceResult:
     return compute_run_resistance(data)

@@ -14,7 +14,7 @@ from service.core.data import load_tables
 @get("/meta", operation_id="getServiceMeta", summary="Service version and data sources",
      description="The service and API versions, and every packaged data table with its standard, edition, "
                  "table number and provenance.",
-     responses=error_responses(), tags=["meta"])
+     responses=error_responses(body=False), tags=["meta"])
 async def service_meta() -> ServiceMeta:
     tables = [
         TableInfo(table_id=t.table_id, standard=t.standard, edition=t.edition, table=t.table, title=t.title,

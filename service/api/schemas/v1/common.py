@@ -24,9 +24,30 @@ class Out(msgspec.Struct, frozen=True, kw_only=True):
     """Response structs."""
 
 
+def _number_bounds(kind: QuantityKind) -> Meta:
+    """The bounds of a bare number, so the schema states what the parser enforces."""
+    bounds: dict[str, float] = {}
+    if kind.minimum is not None:
+        bounds["gt" if kind.exclusive_minimum else "ge"] = kind.minimum
+    if kind.maximum is not None:
+        bounds["le"] = kind.maximum
+    return Meta(**bounds)
+
+
+QUANTITY_TEXT = Meta(min_length=1, max_length=64)
+"""A number and a unit fit in 64 characters; longer text is refused before parsing."""
+
+
 def quantity(kind: QuantityKind, *examples: str | float) -> object:
-    """The schema type of a physical input: a number in ``kind.unit`` or a string with a unit."""
-    return Annotated[float | str, Meta(description=kind.describe(), examples=list(examples or (kind.example,)))]
+    """The schema type of a physical input: a number in ``kind.unit`` or a string with a unit.
+
+    The string's dimension and range are checked by the unit parser (a 422 names
+    the field); the number's range is also in the schema.
+    """
+    return Annotated[
+        Annotated[float, _number_bounds(kind)] | Annotated[str, QUANTITY_TEXT],
+        Meta(description=kind.describe(), examples=list(examples or (kind.example,))),
+    ]
 
 
 ConductorSizeField = Annotated[

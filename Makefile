@@ -1,0 +1,56 @@
+# Two commands do everything on a fresh machine with Python 3.11+ and make:
+#   make run    install the service into .venv and start it on 127.0.0.1:8000
+#   make test   install the service and its test tools, then run the whole suite
+# The service runs from this source tree (no build step); dependencies come
+# only from the hash-pinned lock files under requirements/.
+
+PYTHON ?= python3
+VENV   := .venv
+PY     := $(VENV)/bin/python
+PIP    := $(PY) -m pip --disable-pip-version-check
+
+.PHONY: run test install install-test system-test-deps contract lock bench clean
+
+$(VENV)/bin/python:
+	$(PYTHON) -m venv $(VENV)
+
+$(VENV)/.run-installed: requirements/run.lock | $(VENV)/bin/python
+	$(PIP) install --quiet --require-hashes -r requirements/run.lock
+	touch $@
+
+$(VENV)/.test-installed: requirements/test.lock | $(VENV)/bin/python
+	$(PIP) install --quiet --require-hashes -r requirements/test.lock
+	touch $@ $(VENV)/.run-installed
+
+install: $(VENV)/.run-installed
+
+install-test: $(VENV)/.test-installed system-test-deps
+
+# ngspice is the independent circuit oracle of tests/reference (Debian package).
+system-test-deps:
+	@command -v ngspice >/dev/null 2>&1 || { \
+	  echo "installing ngspice (Debian package) for the reference tests"; \
+	  SUDO=$$( [ "$$(id -u)" = 0 ] || echo sudo ); \
+	  $$SUDO apt-get update -qq && DEBIAN_FRONTEND=noninteractive $$SUDO apt-get install -y -qq ngspice >/dev/null; }
+
+run: install
+	$(PY) -m service
+
+test: install-test
+	AMPLINE_REQUIRE_NGSPICE=1 $(PY) -m pytest
+
+# Regenerate the committed OpenAPI contract from the app.
+contract: install
+	$(PY) -m service.api.contract
+
+# Re-pin dependencies (needs network access to the package index).
+lock: install-test
+	$(PIP) install --quiet uv
+	$(VENV)/bin/uv pip compile pyproject.toml --extra test --generate-hashes --python-version 3.11 --universal -o requirements/test.lock
+	$(VENV)/bin/uv pip compile pyproject.toml --generate-hashes --python-version 3.11 --universal -c requirements/test.lock -o requirements/run.lock
+
+bench: install-test
+	$(PY) load_tests/bench_network.py
+
+clean:
+	rm -rf $(VENV) .pytest_cache .hypothesis

@@ -1,0 +1,27 @@
+"""Settings come from AMPLINE_* environment variables, checked once."""
+
+from __future__ import annotations
+
+import pytest
+
+from service.api.settings import Settings
+
+
+def test_defaults_are_the_documented_ones():
+    s = Settings.from_env({})
+    assert (s.host, s.port, s.log_level, s.log_format, s.max_body_bytes) == ("127.0.0.1", 8000, "info", "json", 1_048_576)
+
+
+def test_environment_overrides_and_integer_parsing():
+    s = Settings.from_env({"AMPLINE_PORT": "9001", "AMPLINE_LOG_FORMAT": "console", "AMPLINE_MAX_BODY_BYTES": "4096"})
+    assert (s.port, s.log_format, s.max_body_bytes) == (9001, "console", 4096)
+
+
+@pytest.mark.parametrize(
+    "env",
+    [{"AMPLINE_PORT": "0"}, {"AMPLINE_PORT": "eighty"}, {"AMPLINE_LOG_FORMAT": "xml"},
+     {"AMPLINE_LOG_LEVEL": "chatty"}, {"AMPLINE_MAX_BODY_BYTES": "10"}, {"AMPLINE_WORKERS": "0"}],
+)
+def test_bad_settings_stop_start_up(env):
+    with pytest.raises(ValueError):
+        Settings.from_env(env)
