@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import uvicorn
 
+from service.api.observability import server_log_config
 from service.api.settings import Settings
 
 
@@ -23,6 +24,7 @@ def main() -> None:
         port=settings.port,
         workers=settings.workers,
         log_level=settings.log_level.lower(),
+        log_config=server_log_config(settings),
         access_log=False,  # our own middleware logs one structured line per request
         timeout_graceful_shutdown=settings.graceful_shutdown_s,
         server_header=False,

@@ -23,16 +23,20 @@ _SAFE_REQUEST_ID = re.compile(rb"^[A-Za-z0-9._:-]{1,128}$")
 _QUIET_PATHS = ("/healthz", "/readyz")
 
 
+def _renderer(settings: Settings):
+    return structlog.processors.JSONRenderer() if settings.log_format == "json" else structlog.dev.ConsoleRenderer(colors=False)
+
+
+_SHARED_PROCESSORS = (
+    structlog.contextvars.merge_contextvars,
+    structlog.processors.add_log_level,
+    structlog.processors.TimeStamper(fmt="iso", utc=True),
+)
+
+
 def configure_logging(settings: Settings) -> None:
-    renderer = structlog.processors.JSONRenderer() if settings.log_format == "json" else structlog.dev.ConsoleRenderer(colors=False)
     structlog.configure(
-        processors=[
-            structlog.contextvars.merge_contextvars,
-            structlog.processors.add_log_level,
-            structlog.processors.TimeStamper(fmt="iso", utc=True),
-            structlog.processors.format_exc_info,
-            renderer,
-        ],
+        processors=[*_SHARED_PROCESSORS, structlog.processors.format_exc_info, _renderer(settings)],
         wrapper_class=structlog.make_filtering_bound_logger(getattr(logging, settings.log_level.upper())),
         logger_factory=structlog.PrintLoggerFactory(sys.stdout),
         cache_logger_on_first_use=False,
@@ -81,3 +85,27 @@ def request_logging_middleware(app: ASGIApp) -> ASGIApp:
             )
 
     return middleware
+
+
+def server_log_config(settings: Settings) -> dict:
+    """logging.dictConfig for the server's own loggers (start-up, shutdown, errors), in our format.
+
+    uvicorn's lines then come out as the same JSON objects (or console lines) as
+    ours, so a log collector sees one format on stdout.
+    """
+    return {
+        "version": 1,
+        "disable_existing_loggers": False,
+        "formatters": {
+            "ampline": {
+                "()": structlog.stdlib.ProcessorFormatter,
+                "processors": [structlog.stdlib.ProcessorFormatter.remove_processors_meta, _renderer(settings)],
+                "foreign_pre_chain": [*_SHARED_PROCESSORS, structlog.stdlib.add_logger_name],
+            }
+        },
+        "handlers": {"stdout": {"class": "logging.StreamHandler", "formatter": "ampline", "stream": "ext://sys.stdout"}},
+        "loggers": {
+            name: {"handlers": ["stdout"], "level": settings.log_level.upper(), "propagate": False}
+            for name in ("uvicorn", "uvicorn.error", "uvicorn.access")
+        },
+    }
