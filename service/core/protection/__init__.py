@@ -1,0 +1,59 @@
+"""Protective devices, disconnection times, the earth-fault loop and adiabatic checks.
+
+Shared by the lead-chain analysis and cable sizing.  Pure: SI floats (A, V,
+ohm, s, m^2), frozen results carrying every number used and its source; a
+non-compliant design is a verdict, a CalcError means no answer exists.
+"""
+
+from .adiabatic import (
+    AdiabaticCheck,
+    AdiabaticMinimum,
+    KFactor,
+    adiabatic_check,
+    adiabatic_minimum_csa,
+    k_factor,
+    max_fault_duration_s,
+    max_let_through_i2t,
+    minimum_csa_m2,
+)
+from .devices import (
+    CircuitBreaker,
+    Device,
+    GGFuse,
+    OperatingCurrent,
+    ResidualCurrentDevice,
+    is_preferred_breaker_rating,
+    operating_current,
+)
+from .disconnection import DisconnectionTime, normalise_earthing, required_disconnection_time
+from .fault_loop import CMIN_LOW_VOLTAGE, EarthFaultCheck, OvercurrentRoute, RcdRoute, earth_fault_check
+from .library import ProtectionLibrary, default_protection
+
+__all__ = [
+    "CMIN_LOW_VOLTAGE",
+    "AdiabaticCheck",
+    "AdiabaticMinimum",
+    "CircuitBreaker",
+    "Device",
+    "DisconnectionTime",
+    "EarthFaultCheck",
+    "GGFuse",
+    "KFactor",
+    "OperatingCurrent",
+    "OvercurrentRoute",
+    "ProtectionLibrary",
+    "RcdRoute",
+    "ResidualCurrentDevice",
+    "adiabatic_check",
+    "adiabatic_minimum_csa",
+    "default_protection",
+    "earth_fault_check",
+    "is_preferred_breaker_rating",
+    "k_factor",
+    "max_fault_duration_s",
+    "max_let_through_i2t",
+    "minimum_csa_m2",
+    "normalise_earthing",
+    "operating_current",
+    "required_disconnection_time",
+]
