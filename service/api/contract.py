@@ -80,10 +80,41 @@ def _copy_union_constraints(ours: dict[str, Any], msgspec_schema: dict[str, Any]
                 branch.update({k: v for k, v in their_branch.items() if k in _CONSTRAINTS})
 
 
+EXAMPLE_DIGITS = 6
+
+
+def _rounded(value: Any) -> Any:
+    if isinstance(value, float):
+        return float(f"{value:.{EXAMPLE_DIGITS}g}")
+    if isinstance(value, dict):
+        return {k: _rounded(v) for k, v in value.items()}
+    if isinstance(value, list):
+        return [_rounded(v) for v in value]
+    return value
+
+
+def _round_response_examples(document: dict[str, Any]) -> None:
+    """Computed example answers to 6 significant figures: the last bits of a solve may differ between CPUs.
+
+    Otherwise the committed contract would drift on a machine whose vector
+    instructions sum in another order, with nothing changed in the service.
+    """
+    for item in document.get("paths", {}).values():
+        for op in item.values():
+            if not isinstance(op, dict):
+                continue
+            for response in op.get("responses", {}).values():
+                for media in response.get("content", {}).values():
+                    for example in media.get("examples", {}).values():
+                        if "value" in example:
+                            example["value"] = _rounded(example["value"])
+
+
 def finish_contract(document: dict[str, Any]) -> dict[str, Any]:
     """Return a copy of the generated document with request structs closed to unknown fields."""
     finished = msgspec.json.decode(msgspec.json.encode(document))  # plain builtins, a deep copy
     _name_request_examples(finished)
+    _round_response_examples(finished)
     strict = _strict_structs()
     _, msgspec_components = msgspec.json.schema_components(list(strict.values()))
     for name, schema in finished.get("components", {}).get("schemas", {}).items():

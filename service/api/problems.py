@@ -1,9 +1,10 @@
 """RFC 9457 problem+json: the body of every 4xx and 5xx answer.
 
-Status policy: 400 for a body that is not valid JSON or does not fit the schema
-(wrong type, unknown field, missing field); 422 for a well-formed body whose
-values cannot be used (wrong unit dimension, out-of-range value, unknown
-conductor size, a network that admits no solution); 413 and 415 for size and
+Status policy: 400 for a body that is not valid JSON or does not fit the schema's
+shape (wrong type, unknown field, missing field); 422 for a well-formed body whose
+values cannot be used (out-of-range value, whether refused by the decoder's bounds
+or by the unit parser; wrong unit dimension; unknown conductor size; a network
+that admits no solution); 413 and 415 for size and
 content type; 500 only for our own defects, with no internals in the body.
 """
 
@@ -160,11 +161,21 @@ def _received_body(request: Request) -> bytes:
     return body if isinstance(body, bytes) else b""
 
 
+# msgspec's messages for a value of the right type outside its declared bounds
+# ("Expected `float` > 0.0", "Expected `array` of length >= 1"): the body has the
+# right shape but a value that cannot be used, which is a 422 like the same
+# value written with a unit and refused by the unit parser.
+_OUT_OF_BOUNDS = re.compile(r"^Expected `[a-z]+` (?:[<>]=? |of length |matching regex )")
+
+
 def handle_validation(request: Request, exc: ValidationException) -> Response[Problem]:
     problems = _validation_problems(exc)
     if not exc.extra:  # the body was not even JSON: find NaN/Infinity to name the field
         problems = _non_finite_numbers(_received_body(request)) or problems
     summary = "; ".join(f"{p.parameter or p.pointer or '(body)'}: {p.message}" for p in problems)
+    out_of_bounds = all(p.parameter is None and _OUT_OF_BOUNDS.match(p.message) for p in problems)
+    if out_of_bounds:
+        return problem_response(HTTP_422_UNPROCESSABLE_ENTITY, summary, request, slug="invalid-value", errors=problems)
     return problem_response(HTTP_400_BAD_REQUEST, summary, request, errors=problems)
 
 
@@ -226,10 +237,73 @@ def error_responses(*statuses: int, body: bool = True) -> dict[int, ResponseSpec
     return {s: _spec(_TITLES[s], examples[s]) for s in wanted if s in examples}
 
 
-def media_type_guard(request: Request) -> None:
-    """Refuse a body that is not JSON with 415 before anything tries to decode it."""
-    if request.method in ("POST", "PUT", "PATCH"):
-        content_type = request.headers.get("content-type", "")
-        media = content_type.split(";", 1)[0].strip().lower()
-        if media != MediaType.JSON and not (media.startswith("application/") and media.endswith("+json")):
-            raise HTTPException(status_code=415, detail="Send the body as application/json.")
+_STRICT_DECODERS: dict[Any, tuple[msgspec.json.Decoder, Any] | None] = {}
+_FLOAT_FOR_INT = re.compile(r"^Expected `int[^`]*`, got `float`")
+
+
+def _strict_decoder(handler: Any) -> tuple[msgspec.json.Decoder, Any] | None:
+    """A strict decoder for the handler's body type and the type (cached per handler); None without a body."""
+    if handler not in _STRICT_DECODERS:
+        data = handler.parsed_fn_signature.parameters.get("data")
+        _STRICT_DECODERS[handler] = None if data is None else (
+            msgspec.json.Decoder(data.annotation, strict=True), data.annotation)
+    return _STRICT_DECODERS[handler]
+
+
+def _integral_floats_as_ints(value: Any) -> Any:
+    if isinstance(value, float) and value.is_integer() and abs(value) < 2**53:
+        return int(value)
+    if isinstance(value, dict):
+        return {k: _integral_floats_as_ints(v) for k, v in value.items()}
+    if isinstance(value, list):
+        return [_integral_floats_as_ints(v) for v in value]
+    return value
+
+
+def _strictly_valid(body: bytes, decoder: msgspec.json.Decoder, annotation: Any) -> Any:
+    """Raise msgspec.ValidationError unless ``body`` fits ``annotation`` without coercion.
+
+    JSON Schema counts 32.0 as an integer, msgspec's strict mode does not: only
+    when that is the complaint is the body checked again with integral numbers
+    read as integers (a walk over the body, so not paid by every request); the
+    normalised body is returned then, for the route to use, else None.
+    """
+    try:
+        decoder.decode(body)
+    except msgspec.ValidationError as exc:
+        if not _FLOAT_FOR_INT.match(str(exc)):
+            raise
+        normalised = _integral_floats_as_ints(msgspec.json.decode(body))
+        msgspec.convert(normalised, annotation, strict=True)
+        return normalised
+    return None
+
+
+async def body_guard(request: Request) -> None:
+    """Refuse a body that is not JSON (415), and one that only fits the schema by coercion (400).
+
+    litestar converts request bodies with msgspec's lax mode, which would take
+    "0.9" for a number, 0 for false or "1" for true.  A contract that says
+    boolean means boolean, so the body is first decoded strictly against the
+    route's request type; only a body that passes reaches litestar's own
+    conversion (and so the handler).
+    """
+    if request.method not in ("POST", "PUT", "PATCH"):
+        return
+    content_type = request.headers.get("content-type", "")
+    media = content_type.split(";", 1)[0].strip().lower()
+    if media != MediaType.JSON and not (media.startswith("application/") and media.endswith("+json")):
+        raise HTTPException(status_code=415, detail="Send the body as application/json.")
+    strict = _strict_decoder(request.route_handler)
+    if strict is None:
+        return
+    body = await request.body()  # over the size limit: 413 here
+    try:
+        normalised = _strictly_valid(body, *strict)
+    except msgspec.ValidationError as exc:
+        raise ValidationException(detail="body does not fit the schema",
+                                  extra=[{"key": "data", "message": str(exc), "source": "body"}]) from None
+    except msgspec.DecodeError as exc:
+        raise HTTPException(status_code=HTTP_400_BAD_REQUEST, detail=f"JSON is malformed: {exc}") from None
+    if normalised is not None:  # litestar's request.json() reads this instead of decoding the body again
+        ScopeState.from_scope(request.scope).json = normalised

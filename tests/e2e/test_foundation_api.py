@@ -78,7 +78,8 @@ def test_resistance_answer_shows_steps_sources_and_cautions(client):
 @pytest.mark.parametrize(
     ("body", "status", "pointer"),
     [
-        ({"size": "2.5 mm^2", "length": -3}, 400, "/length"),
+        ({"size": "2.5 mm^2", "length": -3}, 422, "/length"),
+        ({"size": "2.5 mm^2", "length": 0}, 422, "/length"),
         ({"size": "2.5 mm^2", "length": "-3 m"}, 422, "/length"),
         ({"size": "2.5 mm^2", "length": "30 kg"}, 422, "/length"),
         ({"size": "2.5 mm^2", "length": "NaN"}, 422, "/length"),
@@ -153,3 +154,18 @@ def test_an_unexpected_defect_is_a_500_problem_without_internals(monkeypatch, cl
     with capture_logs():
         body = problem(client.post(RESISTANCE, json={"size": "2.5 mm^2", "length": "30 m"}), 500)
     assert "secret" not in body["detail"] and "exploded" not in repr(body)
+
+
+@pytest.mark.parametrize(
+    ("field", "value"),
+    [("conductor_class", "2"), ("conductor_class", True), ("material", 1)],
+)
+def test_values_that_fit_only_by_coercion_are_refused(client, field, value):
+    # The contract says integer / enum of strings: "2", true and 1 are not those, though a lax decoder would take them.
+    body = {"size": "2.5 mm^2", "length": "30 m", field: value}
+    assert f"/{field}" in pointers(problem(client.post(RESISTANCE, json=body), 400))
+
+
+def test_an_integral_number_written_with_a_point_is_an_integer(client):
+    # JSON Schema: 2.0 is an integer (the contract's conductor_class is an integer enum).
+    assert client.post(RESISTANCE, json={"size": "2.5 mm^2", "length": "30 m", "conductor_class": 2.0}).status_code == 200

@@ -144,7 +144,7 @@ def expand(net: m.Network, guard_pu: float) -> tuple[Primitives, NodeTable, dict
         )
 
     # -- node names ------------------------------------------------------
-    names: set[str] = set()
+    names: dict[str, None] = {}  # insertion order: the same node order whatever the hash seed
     bad_nodes: list[str] = []
     label_arrays: list[np.ndarray] = []
     for t, idx in groups.items():
@@ -161,7 +161,7 @@ def expand(net: m.Network, guard_pu: float) -> tuple[Primitives, NodeTable, dict
         for term in t.terminals:
             vals = [getattr(elements[i], term) for i in idx]
             try:
-                names.update(vals)
+                names.update(dict.fromkeys(vals))
             except TypeError:
                 pass
             bad_nodes.extend(elements[i].id for i, v in zip(idx, vals) if not isinstance(v, str) or not v)

@@ -61,8 +61,18 @@ def _check_options(o: m.SolveOptions) -> None:
 
 
 def solve(network: m.Network, options: m.SolveOptions | None = None) -> Solution:
-    """Solve a network; raises a NetworkError subclass when it has no answer."""
-    options = options or m.SolveOptions()
+    """Solve a network; raises a NetworkError subclass when it has no answer.
+
+    Floating-point warnings are silenced inside: extreme but valid inputs
+    (5e-324 V, 1e300 ohm) overflow on the way, and every result is checked for
+    finiteness before it is returned, so an unusable answer is a
+    NonFiniteResultError or SingularNetworkError, never a stray warning.
+    """
+    with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
+        return _solve(network, options or m.SolveOptions())
+
+
+def _solve(network: m.Network, options: m.SolveOptions) -> Solution:
     _check_options(options)
     from .topology import check_topology
 
