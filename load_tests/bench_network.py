@@ -1,7 +1,8 @@
 """Benchmark of the network solver on N x N resistor grids (a script, not a test).
 
-    /tmp/v/bin/python load_tests/bench_network.py            # 1k .. 100k nodes
-    /tmp/v/bin/python load_tests/bench_network.py --big      # adds the 1M-node grid
+    .venv/bin/python load_tests/bench_network.py            # 1k .. 100k nodes  (or: make bench)
+    .venv/bin/python load_tests/bench_network.py --big      # adds the 1M-node grid
+    .venv/bin/python load_tests/bench_network.py --no-http  # skip column (b)
 
 Grid: 4-neighbour resistors of random value (fixed seed), a 10 V source from
 the first corner to the reference, the opposite corner *is* the reference
@@ -12,12 +13,15 @@ Columns, all measured in the same run on the same network:
        sources), results and checks included;
   (a2) the same with one Resistor dataclass per branch (sizes <= 100k), to
        show what a per-element model costs;
-  (b)  the HTTP path: hook ``http_solve`` below, None until the HTTP layer
-       exists (the lead fills it in);
+  (b)  the whole HTTP path: the client encodes the compact JSON form
+       (resistor_array) from the numpy arrays, POSTs it to a real uvicorn
+       server (``python -m service`` on a free loopback port, started by this
+       script) and decodes the answer (node voltages as columns);
   (c)  the floor: the same MNA matrix built straight from numpy arrays and
        solved with scipy alone (splu, same ordering);
   (d)  ngspice -b with .op on the same netlist (sizes up to ~10k nodes).
-Medians over several repeats at small sizes, fewer at large ones.
+Every time is a median over several repeats (fewer at large sizes); the
+ratios are of those medians.  max|dv| compares (a) and (b) with (c).
 """
 
 from __future__ import annotations
@@ -26,6 +30,8 @@ import argparse
 import os
 import resource
 import shutil
+import signal
+import socket
 import statistics
 import subprocess
 import sys
@@ -33,21 +39,76 @@ import tempfile
 import time
 from collections.abc import Callable
 
+import msgspec
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+ROOT = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..")
+sys.path.insert(0, ROOT)
 
 from service.core.network import CurrentSource, Network, Resistor, VoltageSource, solve  # noqa: E402
-
-# (b) hook: set to a function taking a Network and returning its voltages
-# through the HTTP service (e.g. a client posting the JSON form).  Timed like (a).
-http_solve: Callable[[Network], object] | None = None
 
 LOADS = 5
 V_SOURCE = 10.0
 I_LOAD = 0.01
+
+
+class HttpSolver:
+    """Column (b): a real server in a subprocess and a keep-alive client."""
+
+    def __init__(self, max_nodes: int) -> None:
+        import httpx
+
+        with socket.socket() as sock:
+            sock.bind(("127.0.0.1", 0))
+            port = sock.getsockname()[1]
+        env = {**os.environ, "AMPLINE_HOST": "127.0.0.1", "AMPLINE_PORT": str(port), "AMPLINE_LOG_LEVEL": "warning",
+               "AMPLINE_MAX_NETWORK_NODES": str(max_nodes + 10), "AMPLINE_MAX_NETWORK_ELEMENTS": str(3 * max_nodes),
+               "AMPLINE_MAX_NETWORK_BODY_BYTES": str(max(64 * 1_048_576, 100 * max_nodes))}  # ~66 B/node
+        self.process = subprocess.Popen([sys.executable, "-m", "service"], cwd=ROOT, env=env,
+                                        stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+        self.url = f"http://127.0.0.1:{port}/v1/networks/solve"
+        self.client = httpx.Client(timeout=600)
+        deadline = time.monotonic() + 30
+        while True:
+            try:
+                if self.client.get(f"http://127.0.0.1:{port}/readyz").status_code == 200:
+                    break
+            except httpx.TransportError:
+                if time.monotonic() > deadline:
+                    self.close()
+                    raise RuntimeError("the benchmark server did not start") from None
+                time.sleep(0.05)
+
+    def solve(self, a, b, r, load_nodes) -> dict:
+        body = msgspec.json.encode({
+            "frequency": 0,
+            "elements": [
+                {"type": "resistor_array", "id": "R", "a": a.tolist(), "b": b.tolist(), "resistance": r.tolist()},
+                {"type": "voltage_source", "id": "V1", "pos": "1", "neg": "0", "voltage": V_SOURCE},
+                *({"type": "current_source", "id": f"I{k}", "a": str(int(nd)), "b": "0", "current": I_LOAD}
+                  for k, nd in enumerate(load_nodes)),
+            ],
+            "options": {"node_voltages": "columns"},
+        })
+        answer = self.client.post(self.url, content=body, headers={"content-type": "application/json"})
+        if answer.status_code != 200:
+            raise RuntimeError(f"HTTP {answer.status_code}: {answer.text[:300]}")
+        return msgspec.json.decode(answer.content)
+
+    def close(self) -> None:
+        self.client.close()
+        self.process.send_signal(signal.SIGTERM)
+        self.process.wait(timeout=30)
+
+
+def http_voltages(answer: dict) -> tuple[np.ndarray, np.ndarray]:
+    """(labels, signed voltages) from a columns answer; DC angles are 0 or 180."""
+    cols = answer["node_voltage_columns"]
+    labels = np.asarray([int(n) for n in cols["nodes"]], dtype=np.int64)
+    sign = np.where(np.asarray(cols["angle_deg"]) == 0.0, 1.0, -1.0)
+    return labels, sign * np.asarray(cols["magnitude_v"])
 
 
 def grid_arrays(n_side: int, seed: int = 1):
@@ -126,40 +187,63 @@ def run_ngspice(netlist: str) -> float | None:
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("--big", action="store_true", help="also solve the 1000 x 1000 (1M-node) grid")
+    ap.add_argument("--no-http", action="store_true", help="skip column (b)")
     ap.add_argument("--sides", type=int, nargs="*", default=[32, 100, 200, 316])
     args = ap.parse_args()
     sides = list(args.sides) + ([1000] if args.big else [])
-    print(f"{'nodes':>9} {'(a) s':>9} {'(a2) s':>9} {'(b) s':>7} {'(c) s':>9} {'a/c':>6} {'(d) s':>8} {'d/a':>7}  max|dv|")
-    for side in sides:
-        nodes = side * side - 1
-        a, b, r, loads = grid_arrays(side)
-        repeats = 7 if nodes <= 20_000 else 3 if nodes <= 200_000 else 2
-        net = typed_network(a, b, r, loads)
-        # (c) and (a) alternate so that neither always runs on a cold heap.
-        t_c_all, t_a_all = [], []
-        for _ in range(repeats):
-            t, x_raw = timed(lambda: raw_floor(a, b, r, loads, side * side), 1)
-            t_c_all.append(t)
-            t, sol = timed(lambda: solve(net), 1)
-            t_a_all.append(t)
-        t_c, t_a = statistics.median(t_c_all), statistics.median(t_a_all)
-        v = sol.voltage_array()
-        labels = np.array([int(s) for s in sol.node_names()]) if nodes <= 200_000 else np.arange(1, side * side)
-        dv = float(np.max(np.abs(v - x_raw[labels - 1])))
-        t_a2 = None
-        if nodes <= 100_000:
-            net2 = per_element_network(a, b, r, loads)
-            t_a2, _ = timed(lambda: solve(net2), max(1, repeats // 2))
-        t_b = timed(lambda: http_solve(net), repeats)[0] if http_solve else None
-        t_d = run_ngspice(ngspice_netlist(a, b, r, loads)) if nodes <= 12_000 else None
-        fmt = lambda t: f"{t:9.4f}" if t is not None else f"{'-':>9}"
-        print(
-            f"{nodes:9d} {fmt(t_a)} {fmt(t_a2)} {fmt(t_b)[2:]} {fmt(t_c)} {t_a / t_c:6.2f} "
-            f"{fmt(t_d)[1:]} {(t_d / t_a if t_d else float('nan')):7.1f}  {dv:.1e}",
-            flush=True,
-        )
+    http = None if args.no_http else HttpSolver(max(sides) ** 2)
+    print(f"{'nodes':>9} {'(a) s':>8} {'(a2) s':>8} {'(b) s':>8} {'(c) s':>8} {'(d) s':>8} "
+          f"{'a/c':>6} {'b/c':>6} {'d/a':>7}  max|dv| a, b")
+    try:
+        for side in sides:
+            row(side, http)
+    finally:
+        if http is not None:
+            http.close()
     rss = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
     print(f"peak RSS of this process: {rss:.0f} MiB" + (" (dominated by the 1M-node LU factors)" if args.big else ""))
+
+
+def row(side: int, http: HttpSolver | None) -> None:
+    nodes = side * side - 1
+    a, b, r, loads = grid_arrays(side)
+    repeats = 7 if nodes <= 20_000 else 3 if nodes <= 200_000 else 2
+    net = typed_network(a, b, r, loads)
+    # (c), (a) and (b) alternate so that none always runs on a cold heap.
+    t_c_all, t_a_all, t_b_all = [], [], []
+    answer = None
+    for _ in range(repeats):
+        t, x_raw = timed(lambda: raw_floor(a, b, r, loads, side * side), 1)
+        t_c_all.append(t)
+        t, sol = timed(lambda: solve(net), 1)
+        t_a_all.append(t)
+        if http is not None:
+            t, answer = timed(lambda: http.solve(a, b, r, loads), 1)
+            t_b_all.append(t)
+    t_c, t_a = statistics.median(t_c_all), statistics.median(t_a_all)
+    t_b = statistics.median(t_b_all) if t_b_all else None
+    v = sol.voltage_array()
+    labels = np.array([int(s) for s in sol.node_names()]) if nodes <= 200_000 else np.arange(1, side * side)
+    dv = float(np.max(np.abs(v - x_raw[labels - 1])))
+    dv_b = None
+    if answer is not None:
+        lab_b, v_b = http_voltages(answer)
+        dv_b = float(np.max(np.abs(v_b - x_raw[lab_b - 1])))
+    t_a2 = None
+    if nodes <= 100_000:
+        net2 = per_element_network(a, b, r, loads)
+        t_a2, _ = timed(lambda: solve(net2), max(1, repeats // 2))
+    t_d = run_ngspice(ngspice_netlist(a, b, r, loads)) if nodes <= 12_000 else None
+
+    def fmt(t: float | None, width: int = 8, digits: int = 4) -> str:
+        return f"{t:{width}.{digits}f}" if t is not None else f"{'-':>{width}}"
+
+    print(
+        f"{nodes:9d} {fmt(t_a)} {fmt(t_a2)} {fmt(t_b)} {fmt(t_c)} {fmt(t_d)} "
+        f"{fmt(t_a / t_c, 6, 2)} {fmt(t_b / t_c if t_b else None, 6, 2)} {fmt(t_d / t_a if t_d else None, 7, 1)}  "
+        f"{dv:.1e}, " + (f"{dv_b:.1e}" if dv_b is not None else "-"),
+        flush=True,
+    )
 
 
 if __name__ == "__main__":

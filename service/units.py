@@ -48,6 +48,8 @@ class QuantityKind:
     minimum: float | None = None
     exclusive_minimum: bool = False
     maximum: float | None = None
+    difference: bool = False
+    """A temperature difference: "80 degC" is a rise of 80 K, not the temperature 80 °C."""
 
     def describe(self) -> str:
         bounds = []
@@ -69,6 +71,26 @@ CURRENT = QuantityKind("current", "A", "16 A", minimum=0.0, exclusive_minimum=Tr
 POWER = QuantityKind("power", "W", "3 kW", minimum=0.0, exclusive_minimum=True, maximum=1.0e9)
 RESISTANCE = QuantityKind("resistance", "ohm", "0.35 ohm", minimum=0.0, maximum=1.0e12)
 FREQUENCY = QuantityKind("frequency", "Hz", "50 Hz", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
+# Network solver inputs.  Sources are signed (a DC source may be given
+# reversed); reactance of a fixed impedance is signed (X < 0 is capacitive);
+# source and cable reactances are inductive, so >= 0.
+ANALYSIS_FREQUENCY = QuantityKind("analysis frequency (0 means a direct-current analysis)", "Hz", "50 Hz", minimum=0.0, maximum=1.0e6)
+SOURCE_VOLTAGE = QuantityKind("source voltage", "V", "230 V", minimum=-1.0e6, maximum=1.0e6)
+SOURCE_CURRENT = QuantityKind("source current", "A", "16 A", minimum=-1.0e6, maximum=1.0e6)
+REACTANCE = QuantityKind("reactance", "ohm", "0.08 ohm", minimum=-1.0e12, maximum=1.0e12)
+INDUCTIVE_REACTANCE = QuantityKind("inductive reactance", "ohm", "0.02 ohm", minimum=0.0, maximum=1.0e12)
+REACTANCE_PER_LENGTH = QuantityKind("reactance per length", "ohm/m", "0.08 mohm/m", minimum=0.0, maximum=1.0)
+INDUCTANCE = QuantityKind("inductance", "H", "10 mH", minimum=0.0, maximum=1.0e6)
+CAPACITANCE = QuantityKind("capacitance", "F", "10 uF", minimum=0.0, exclusive_minimum=True, maximum=1.0e3)
+SERIES_CAPACITANCE = QuantityKind("series capacitance (0 means none)", "F", "47 uF", minimum=0.0, maximum=1.0e3)
+# Lead-chain inputs.
+IMPEDANCE = QuantityKind("impedance", "ohm", "0.35 ohm", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
+ENERGY = QuantityKind("energy", "J", "1.2 kWh", minimum=0.0, exclusive_minimum=True, maximum=1.0e12)
+MASS = QuantityKind("mass", "kg", "10 kg", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
+TEMPERATURE_RISE = QuantityKind("temperature rise", "K", "80 K", minimum=0.0, exclusive_minimum=True, maximum=1000.0,
+                                difference=True)
+RESIDUAL_CURRENT = QuantityKind("rated residual current", "A", "30 mA", minimum=0.0, exclusive_minimum=True, maximum=10.0)
+PHASE_ANGLE = QuantityKind("phase angle", "deg", "-30 deg", minimum=-360.0, maximum=360.0)
 
 _NUMBER_AND_UNIT = re.compile(
     r"^\s*(?P<number>[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(?P<unit>.*?)\s*$"
@@ -84,15 +106,22 @@ _UNIT_SPELLINGS = (
 )
 
 
-@lru_cache(maxsize=512)
-def _units(text: str) -> pint.Unit:
+_OFFSET_AS_DIFFERENCE = re.compile(r"\b(degC|degF)\b")
+
+
+def _units_spelling(text: str) -> str:
     normalised = text
     for pattern, replacement in _UNIT_SPELLINGS:
         if isinstance(pattern, str):
             normalised = normalised.replace(pattern, replacement)
         else:
             normalised = pattern.sub(replacement, normalised)
-    return _REGISTRY.parse_units(normalised)
+    return normalised
+
+
+@lru_cache(maxsize=512)
+def _units(text: str) -> pint.Unit:
+    return _REGISTRY.parse_units(_units_spelling(text))
 
 
 def _check_finite(number: float) -> float:
@@ -133,6 +162,8 @@ def parse_quantity(value: float | int | str, kind: QuantityKind) -> float:
     number, unit_text = _split(value)
     if not unit_text:
         return _check_range(number, kind)
+    if kind.difference:  # a rise in degrees Celsius or Fahrenheit is a difference, never a point on the scale
+        unit_text = _OFFSET_AS_DIFFERENCE.sub(lambda m: "delta_" + m[1], _units_spelling(unit_text))
     try:
         unit = _units(unit_text)
         target = _units(kind.unit)
@@ -141,7 +172,8 @@ def parse_quantity(value: float | int | str, kind: QuantityKind) -> float:
         raise QuantityError(
             f"'{unit_text}' is not a unit of {kind.name} (expected something like '{kind.example}')"
         ) from None
-    except (pint.UndefinedUnitError, pint.errors.DefinitionSyntaxError, AttributeError, TypeError, ValueError):
+    except Exception:  # noqa: BLE001 - pint's expression parser, fed arbitrary client text, raises assorted
+        # types besides its own (AssertionError, tokenize.TokenError, KeyError...): each means "not a unit".
         raise QuantityError(f"'{unit_text[:40]}' is not a known unit") from None
     return _check_range(_check_finite(float(converted)), kind)
 

@@ -10,12 +10,14 @@ from litestar.openapi.spec import Contact, Tag
 
 from service import API_VERSION
 from service.api.observability import configure_logging, request_logging_middleware
-from service.api.problems import EXCEPTION_HANDLERS, media_type_guard
+from service.api.problems import EXCEPTION_HANDLERS, body_guard
 from service.api.routes.operational import healthz, readyz
 from service.api.routes.v1.conductors import compute_run_resistance_route, list_conductors
 from service.api.routes.v1.meta import service_meta
+from service.api.routes.v1.networks import network_route_handlers
 from service.api.settings import Settings
 from service.core.conductors import default_library
+from service.core.protection import default_protection
 from service.core.data import load_tables
 
 API_DESCRIPTION = (
@@ -31,6 +33,7 @@ def _load_data(app: Litestar) -> None:
     """Load and validate every data table before serving; a defect stops start-up."""
     load_tables()
     default_library()
+    default_protection()
     app.state.ready = True
 
 
@@ -43,6 +46,7 @@ def openapi_config() -> OpenAPIConfig:
         tags=[
             Tag(name="conductors", description="Conductor library: sizes, materials, resistance."),
             Tag(name="meta", description="Service version and data sources."),
+            Tag(name="networks", description="Circuit networks: node voltages, currents and powers, DC or AC."),
             Tag(name="operations", description="Liveness and readiness probes."),
         ],
         path="/schema",
@@ -53,11 +57,12 @@ def openapi_config() -> OpenAPIConfig:
 def create_app(settings: Settings | None = None) -> Litestar:
     settings = settings or Settings.from_env()
     configure_logging(settings)
-    v1 = Router(path="/v1", route_handlers=[service_meta, list_conductors, compute_run_resistance_route])
+    v1 = Router(path="/v1", route_handlers=[service_meta, list_conductors, compute_run_resistance_route,
+                                            *network_route_handlers(settings)])
     app = Litestar(
         route_handlers=[healthz, readyz, v1],
         exception_handlers=EXCEPTION_HANDLERS,
-        before_request=media_type_guard,
+        before_request=body_guard,
         on_startup=[_load_data],
         openapi_config=openapi_config(),
         request_max_body_size=settings.max_body_bytes,

@@ -27,6 +27,15 @@ class Settings:
     """Largest accepted request body, in bytes; larger bodies get 413."""
     graceful_shutdown_s: int = 10
     """Seconds in-flight requests get to finish after SIGTERM."""
+    max_network_body_bytes: int = 33_554_432
+    """Largest accepted body for POST /v1/networks/solve only, in bytes (default 32 MiB; larger
+    bodies get 413). A 100,000-node resistor grid in the compact array form is about 7 MB."""
+    max_network_elements: int = 500_000
+    """Most elements one network may have; each branch of an array element counts as one.
+    Past it the request gets 422 before anything is solved."""
+    max_network_nodes: int = 200_000
+    """Most distinct nodes one network may have, the reference node included.
+    Past it the request gets 422 before anything is solved."""
 
     def __post_init__(self) -> None:
         if self.log_format not in ("json", "console"):
@@ -37,6 +46,10 @@ class Settings:
             raise ValueError("AMPLINE_PORT must be 1-65535")
         if self.max_body_bytes < 1024 or self.workers < 1 or self.graceful_shutdown_s < 0:
             raise ValueError("AMPLINE_MAX_BODY_BYTES >= 1024, AMPLINE_WORKERS >= 1, AMPLINE_GRACEFUL_SHUTDOWN_S >= 0")
+        if self.max_network_body_bytes < 1024 or self.max_network_elements < 1 or self.max_network_nodes < 2:
+            raise ValueError(
+                "AMPLINE_MAX_NETWORK_BODY_BYTES >= 1024, AMPLINE_MAX_NETWORK_ELEMENTS >= 1, AMPLINE_MAX_NETWORK_NODES >= 2"
+            )
 
     @classmethod
     def from_env(cls, env: Mapping[str, str] | None = None) -> Settings:

@@ -1,0 +1,400 @@
+"""Network solver endpoint: POST /v1/networks/solve.
+
+The handler is built per app by :func:`network_route_handlers` because its
+body limit is a setting (AMPLINE_MAX_NETWORK_BODY_BYTES): a 100,000-node grid
+is several megabytes, far above the service's general 1 MiB limit.  Small
+networks are solved on the event loop; big ones in a worker thread, so that a
+long solve does not stall health probes (see IN_LOOP_ELEMENTS).
+"""
+
+from __future__ import annotations
+
+from typing import Annotated
+
+import msgspec
+import numpy as np
+from litestar import post
+from litestar.concurrency import sync_to_thread
+from litestar.enums import RequestEncodingType
+from litestar.handlers import HTTPRouteHandler
+from litestar.openapi.datastructures import ResponseSpec
+from litestar.openapi.spec import Example
+from litestar.params import Body
+
+from service.api.contract import request_examples
+from service.api.network_input import CableUse, ParsedNetwork, element_count, explain, terminals, to_network
+from service.api.problems import error_responses
+from service.api.routes.v1.conductors import source_refs
+from service.api.schemas.v1 import networks as s
+from service.api.schemas.v1.common import GENERAL_CAUTIONS, CalculationNotes, Step
+from service.api.settings import Settings
+from service.core.errors import Blame, CalcError
+from service.core.network import (
+    ArrayElementResult,
+    NetworkError,
+    Phasor,
+    Solution,
+    ThreePhaseSupplyResult,
+    solve,
+)
+
+# Below this many elements a network is solved on the event loop itself: the solve takes a few milliseconds,
+# less than handing it to a worker thread costs (measured 2-5 ms on the 2-core target, GIL hand-over included).
+# Bigger networks go to a thread so that probes and small requests keep being answered meanwhile.
+IN_LOOP_ELEMENTS = 20_000
+# Steps listed one by one for at most this many cable runs / Thevenin pairs (the rest are summarised).
+STEPS_SHOWN = 20
+DEAD_ENDS_SHOWN = 10
+
+
+def solve_network(req: s.NetworkSolveRequest, settings: Settings) -> s.NetworkSolveResult:
+    parsed = to_network(req, settings)
+    try:
+        # Extreme but valid inputs (1e-300 ohm next to 1e12 ohm) can overflow on the way; the core checks every
+        # result for finiteness and refuses with 422, so numpy's floating-point warnings are only noise here.
+        with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
+            sol = solve(parsed.network, parsed.options)
+            return _result(req, parsed, sol)  # element records are built lazily, so inside the guard too
+    except NetworkError as err:
+        raise explain(err, req) from err
+    except OverflowError as exc:  # Python float/cmath arithmetic in the core out of range on extreme values
+        raise CalcError(
+            code="non-finite-result", detail="the network's values go beyond the range of double precision on the way to a solution",
+            how_to_fix="check for extreme element values (e.g. 1e12 ohm next to 1e-12 ohm, or 1e6 A into 1e12 ohm)",
+            blames=(Blame(("elements",), "values beyond what double precision can carry"),),
+        ) from exc
+
+
+# --------------------------------------------------------------------------- response
+
+
+def _mag_ang(p: Phasor) -> tuple[float, float]:
+    return p.magnitude, p.angle_deg
+
+
+def _columns(values: np.ndarray) -> tuple[list[float], list[float]]:
+    """Magnitudes and angles in degrees; 0 (even -0.0, which np.angle puts at 180°) has angle 0, as in Phasor.of."""
+    return np.abs(values).tolist(), np.where(values == 0, 0.0, np.degrees(np.angle(values))).tolist()
+
+
+def _node_order(req: s.NetworkSolveRequest, names: list[str]) -> np.ndarray:
+    """Named nodes in the order the request first names them, then array labels in numeric order."""
+    rank = {n: r for r, n in enumerate(dict.fromkeys(getattr(e, t) for e in req.elements for t in terminals(e)))}
+    named = [i for i, n in enumerate(names) if n in rank]
+    named.sort(key=lambda i: rank[names[i]])
+    if len(named) == len(names):
+        return np.asarray(named, dtype=np.int64)
+    rest = np.ones(len(names), dtype=bool)
+    rest[named] = False
+    return np.concatenate([np.asarray(named, dtype=np.int64), np.flatnonzero(rest)])
+
+
+_FLIP_SENSE = {"lagging": "leading", "leading": "lagging"}
+
+
+def _two_terminal(el, out_type: type, cable: CableUse | None):
+    vm, va = _mag_ang(el.voltage)
+    im, ia = _mag_ang(el.current)
+    sense = el.power_factor_sense
+    if el.supplied_w is not None:  # a source: say the sense of what it delivers
+        sense = _FLIP_SENSE.get(sense, sense)
+    return out_type(
+        id=el.id, a=el.a, b=el.b,
+        voltage_magnitude_v=vm, voltage_angle_deg=va, current_magnitude_a=im, current_angle_deg=ia,
+        p_w=el.p_w, q_var=el.q_var, s_va=el.s_va,
+        power_factor=el.power_factor, power_factor_sense=sense,
+        supplied_w=el.supplied_w, supplied_var=el.supplied_var, internal_loss_w=el.internal_loss_w,
+        load_model=el.load_model,
+        rated_power_drawn_pct=None if el.rated_power_fraction is None else 100.0 * el.rated_power_fraction,
+        below_guard_voltage=True if el.below_guard_voltage else None,
+        resistance_ohm=cable.resistance_ohm if cable else None,
+        reactance_ohm=cable.reactance_ohm if cable else None,
+        resistance_ohm_per_m=cable.resistance_ohm_per_m if cable else None,
+    )
+
+
+def _three_phase(el: ThreePhaseSupplyResult) -> s.ThreePhaseSupplyOut:
+    phases = [
+        s.SupplyPhaseOut(
+            line=ph.line, node=ph.node,
+            current_magnitude_a=ph.line_current.magnitude, current_angle_deg=ph.line_current.angle_deg,
+            voltage_to_neutral_magnitude_v=ph.voltage_to_neutral.magnitude,
+            voltage_to_neutral_angle_deg=ph.voltage_to_neutral.angle_deg,
+            supplied_w=ph.supplied_w, supplied_var=ph.supplied_var,
+        )
+        for ph in el.phases
+    ]
+    ll = [s.LineToLineOut(lines=x.lines, magnitude_v=x.voltage.magnitude, angle_deg=x.voltage.angle_deg)
+          for x in el.line_to_line_voltages]
+    return s.ThreePhaseSupplyOut(
+        id=el.id, phases=phases, line_to_line=ll,
+        neutral_current_magnitude_a=el.neutral_current.magnitude,
+        neutral_current_angle_deg=el.neutral_current.angle_deg,
+        supplied_w=el.supplied_w, supplied_var=el.supplied_var, s_va=el.s_va, internal_loss_w=el.internal_loss_w,
+        power_factor=el.power_factor, power_factor_sense=el.power_factor_sense,
+    )
+
+
+def _array(el: ArrayElementResult, sol: Solution, branches: bool) -> s.ResistorArrayOut:
+    out = dict(id=el.id, count=el.count, p_w=el.p_w, q_var=el.q_var, max_current_a=el.max_current_a)
+    if branches:
+        values = sol.array_values(el.id)
+        mag, ang = _columns(values.current)
+        out.update(branch_current_magnitude_a=mag, branch_current_angle_deg=ang, branch_p_w=values.p_w.tolist())
+    return s.ResistorArrayOut(**out)
+
+
+def _elements(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> list[s.ElementOut]:
+    out: list[s.ElementOut] = []
+    for k, (e, r) in enumerate(zip(req.elements, sol.element_results())):
+        if isinstance(r, ThreePhaseSupplyResult):
+            out.append(_three_phase(r))
+        elif isinstance(r, ArrayElementResult):
+            out.append(_array(r, sol, req.options.array_branch_values))
+        else:
+            out.append(_two_terminal(r, s.RESULT_OF[type(e)], parsed.cables.get(k)))
+    return out
+
+
+def _thevenin(sol: Solution) -> list[s.TheveninOut]:
+    out = []
+    for t in sol.thevenin:
+        isc = t.short_circuit_current
+        out.append(s.TheveninOut(
+            a=t.a, b=t.b,
+            open_circuit_voltage_magnitude_v=t.open_circuit_voltage.magnitude,
+            open_circuit_voltage_angle_deg=t.open_circuit_voltage.angle_deg,
+            resistance_ohm=t.resistance_ohm, reactance_ohm=t.reactance_ohm, impedance_ohm=t.impedance_ohm,
+            short_circuit_current_magnitude_a=isc.magnitude if isc else None,
+            short_circuit_current_angle_deg=isc.angle_deg if isc else None,
+        ))
+    return out
+
+
+def _notes(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> CalculationNotes:
+    t = sol.totals
+    kinds = {type(e) for e in req.elements}
+    nonlinear = any(isinstance(e, s.LoadIn) and e.model != "constant_impedance" for e in req.elements)
+    steps = [
+        Step(name="Unknowns", formula="node voltages (reference node excluded), modified nodal analysis Y·V = I",
+             value=float(sol.node_count), unit="nodes"),
+        Step(name="Solution",
+             formula=("Newton-Raphson on the constant-power/current loads, a sparse LU solve per step" if nonlinear
+                      else "one sparse LU solve"),
+             value=float(sol.iterations), unit="linear solves"),
+        Step(name="Kirchhoff's current law check", formula="max over nodes of |sum of currents leaving the node|",
+             value=sol.max_kcl_residual_a, unit="A"),
+        Step(name="Power balance check", formula="|S supplied - sum of S absorbed by every element|",
+             value=sol.power_balance_residual_va, unit="VA"),
+        Step(name="Active power supplied", formula="sum over sources of Re(V·I*) at their terminals",
+             value=t.supplied_w, unit="W"),
+        Step(name="Conductor losses", formula="sum of I²R in resistors, impedances and cable runs",
+             value=t.conductor_loss_w, unit="W"),
+    ]
+    for k, use in list(parsed.cables.items())[:STEPS_SHOWN]:
+        c = use.conductor
+        kc, ref = c.material.temperature_constant_c, c.reference_temperature_c
+        e = req.elements[k]
+        steps.append(Step(
+            name=f"Cable run {e.id}: resistance per metre at {use.temperature_c:g} °C",
+            formula=f"R_t = R_{ref:g} x ({kc:g} + t) / ({kc:g} + {ref:g}), {c.size_label} {c.material.name} class "
+                    f"{c.conductor_class}",
+            value=use.resistance_ohm_per_m, unit="ohm/m", source="IEC 60228:2004, Annex B",
+        ))
+        steps.append(Step(
+            name=f"Cable run {e.id}: resistance", formula="R = R_t x L" + (" x 2 (go and return)" if e.go_and_return else ""),
+            value=use.resistance_ohm, unit="ohm",
+        ))
+    for th in sol.thevenin[:STEPS_SHOWN]:
+        steps.append(Step(
+            name=f"Thevenin impedance between {th.a} and {th.b}",
+            formula="Z_th = V(a) - V(b) with 1 A injected at a and drawn at b, every source set to zero",
+            value=th.impedance_ohm, unit="ohm",
+        ))
+
+    if sol.frequency_hz:
+        assumptions = [f"Sinusoidal steady state at {sol.frequency_hz:g} Hz: values are RMS phasors, angles in degrees "
+                       "relative to the sources' 0° reference."]
+    else:
+        assumptions = ["DC steady state: inductors are short circuits, capacitors open circuits; "
+                       "an angle of 180° means a negative value."]
+    assumptions.append(f"Voltages are measured from the reference node {req.reference_node!r} (0 V).")
+    assumptions.append("Elements are ideal and linear (R, L, C, switches, sources behind the internal impedance "
+                       "given); powers follow the passive sign convention.")
+    if s.LoadIn in kinds:
+        assumptions.append(
+            "Loads follow their model with voltage: constant impedance S ∝ V², constant current S ∝ V, constant "
+            "power S fixed; below 0.7 of rated voltage a constant-power or constant-current load is taken as the "
+            "impedance it has at 0.7 pu (common practice in load-flow studies).")
+    if parsed.cables:
+        assumptions.append(
+            "Cable runs use the tabulated maximum DC resistance of the conductor, corrected to the conductor "
+            "temperature with the linear law; skin and proximity effects are neglected and the reactance is as "
+            "given (0 when not given). Conductors in parallel or of other cores are not modelled unless given.")
+    if s.ThreePhaseSupplyIn in kinds:
+        assumptions.append("Three-phase supplies are balanced star EMFs 120° apart with L1 at 0°; the neutral "
+                           "current is I1 + I2 + I3.")
+
+    cautions = list(GENERAL_CAUTIONS)
+    cautions.append("Steady-state currents and voltages only: fault currents, protective devices, disconnection "
+                    "times, current-carrying capacity and voltage-drop limits are not assessed here.")
+    if parsed.dead_ends:
+        shown = ", ".join(repr(n) for n in parsed.dead_ends[:DEAD_ENDS_SHOWN])
+        more = len(parsed.dead_ends) - DEAD_ENDS_SHOWN
+        cautions.append(f"Node(s) named by only one element terminal (dead ends; check the spelling): {shown}"
+                        + (f" and {more} more" if more > 0 else "") + ".")
+    if sol.guarded_loads:
+        cautions.append("These loads would sit below 0.7 of their rated voltage and were modelled as impedances: "
+                        + ", ".join(sol.guarded_loads[:DEAD_ENDS_SHOWN]) + ". Real equipment may stall or trip there.")
+    tables = sorted({u.conductor.table_id for u in parsed.cables.values()})
+    sources = source_refs(*tables, "conductor-materials") if tables else []
+    return CalculationNotes(steps=steps, assumptions=assumptions, sources=sources, cautions=cautions)
+
+
+def _result(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> s.NetworkSolveResult:
+    t = sol.totals
+    layout = req.options.node_voltages
+    node_objects = node_columns = None
+    if layout != "omit":
+        names = sol.node_names()
+        order = _node_order(req, names)
+        v = sol.voltage_array()[order]
+        mag, ang = _columns(v)
+        ordered = [names[i] for i in order.tolist()]
+        if layout == "objects":
+            node_objects = [s.NodeVoltageOut(node=n, magnitude_v=x, angle_deg=y) for n, x, y in zip(ordered, mag, ang)]
+        else:
+            node_columns = s.NodeVoltageColumns(nodes=ordered, magnitude_v=mag, angle_deg=ang)
+    return s.NetworkSolveResult(
+        analysis="ac" if sol.frequency_hz else "dc",
+        frequency_hz=sol.frequency_hz,
+        reference_node=sol.reference_node,
+        node_count=sol.node_count,
+        element_count=len(req.elements),
+        converged=sol.converged,
+        iterations=sol.iterations,
+        max_kcl_residual_a=sol.max_kcl_residual_a,
+        power_balance_residual_va=sol.power_balance_residual_va,
+        totals=s.TotalsOut(
+            supplied_w=t.supplied_w, supplied_var=t.supplied_var,
+            consumed_by_loads_w=t.consumed_by_loads_w, consumed_by_loads_var=t.consumed_by_loads_var,
+            conductor_loss_w=t.conductor_loss_w, cable_loss_w=t.cable_loss_w,
+            network_reactive_var=t.network_reactive_var, source_internal_loss_w=t.source_internal_loss_w,
+        ),
+        elements=_elements(req, parsed, sol),
+        thevenin=_thevenin(sol),
+        guarded_loads=list(sol.guarded_loads),
+        notes=_notes(req, parsed, sol),
+        node_voltages=node_objects,
+        node_voltage_columns=node_columns,
+    )
+
+
+# --------------------------------------------------------------------------- examples and route
+
+_EXAMPLES = {
+    "Market stall on a 12 V battery: LED strip and a till through 6 m of 2.5 mm² flexible twin (DC)":
+        s.NetworkSolveRequest(
+            frequency=0,
+            reference_node="battery_neg",
+            elements=[
+                s.VoltageSourceIn(id="battery", pos="battery_pos", neg="battery_neg", voltage="12.6 V",
+                                  internal_resistance="0.02 ohm"),
+                s.CableRunIn(id="feed", a="battery_pos", b="stall_pos", length="6 m", size="2.5 mm^2",
+                             conductor_class=5, conductor_temperature="30 degC", go_and_return=True),
+                s.LoadIn(id="led_strip", a="stall_pos", b="battery_neg", rated_power="36 W", rated_voltage="12 V"),
+                s.LoadIn(id="till", a="stall_pos", b="battery_neg", rated_power="24 W", rated_voltage="12 V",
+                         model="constant_power"),
+            ],
+            options=s.SolveOptionsIn(thevenin_between=[s.NodePairIn(a="stall_pos", b="battery_neg")]),
+        ),
+    "Village hall refit: 230 V supply, 25 m of 10 mm² sub-main, water heater, lighting and a dishwasher (AC)":
+        s.NetworkSolveRequest(
+            frequency="50 Hz",
+            reference_node="N",
+            elements=[
+                s.VoltageSourceIn(id="supply", pos="origin", neg="N", voltage="230 V",
+                                  internal_resistance="0.25 ohm", internal_reactance="0.15 ohm"),
+                s.CableRunIn(id="sub_main", a="origin", b="hall_db", length="25 m", size="10 mm^2",
+                             conductor_temperature="70 degC", go_and_return=True,
+                             reactance_per_length="0.08 mohm/m"),
+                s.LoadIn(id="water_heater", a="hall_db", b="N", rated_power="3 kW", rated_voltage="230 V"),
+                s.LoadIn(id="lighting", a="hall_db", b="N", rated_power="1.2 kW", rated_voltage="230 V",
+                         power_factor=0.95, model="constant_power"),
+                s.LoadIn(id="dishwasher", a="hall_db", b="N", rated_power="2.2 kW", rated_voltage="230 V",
+                         power_factor=0.9, model="constant_current"),
+            ],
+            options=s.SolveOptionsIn(thevenin_between=[s.NodePairIn(a="hall_db", b="N")]),
+        ),
+    "Small farm building on 230/400 V three-phase: 40 m of 16 mm² four-core, unequal loads per line (AC)":
+        s.NetworkSolveRequest(
+            frequency=50,
+            reference_node="N",
+            elements=[
+                s.ThreePhaseSupplyIn(id="supply", l1="L1", l2="L2", l3="L3", neutral="N",
+                                     line_to_neutral_voltage="230 V", internal_resistance="0.05 ohm",
+                                     internal_reactance="0.03 ohm"),
+                *[s.CableRunIn(id=f"cable_{x}", a=x, b=f"barn_{x}", length="40 m", size="16 mm^2",
+                               conductor_temperature="70 degC", reactance_per_length="0.08 mohm/m")
+                  for x in ("L1", "L2", "L3", "N")],
+                s.LoadIn(id="grain_dryer_L1", a="barn_L1", b="barn_N", rated_power="7 kW", rated_voltage="230 V",
+                         power_factor=0.85),
+                s.LoadIn(id="lighting_L2", a="barn_L2", b="barn_N", rated_power="1.5 kW", rated_voltage="230 V"),
+                s.LoadIn(id="heaters_L3", a="barn_L3", b="barn_N", rated_power="4 kW", rated_voltage="230 V"),
+            ],
+        ),
+}
+
+_DESCRIPTION = (
+    "Steady-state solution of a circuit network, DC or AC at one frequency (modified nodal analysis, sparse LU; "
+    "Newton-Raphson when constant-power or constant-current loads are present). Elements: resistor, impedance "
+    "(R + jX, or R/L/C), inductor, capacitor, voltage and current sources, switch, cable run (resistance from the "
+    "conductor library at the conductor temperature), load (rated power at rated voltage, power factor, constant "
+    "impedance/current/power), three-phase supply, and `resistor_array`, a compact form for large resistor "
+    "networks. Returns node voltages, every element's current and powers, totals, two independent checks "
+    "(Kirchhoff's current law and power balance), optional Thevenin equivalents, and `notes`. A network with no "
+    "solution gets 422 naming the elements and nodes at fault: floating parts, loops of ideal voltage sources, "
+    "current sources cutting a part off, loads asking more power than the network can transfer. The body limit of "
+    "this route, and the most nodes and elements per network, are settings (AMPLINE_MAX_NETWORK_*)."
+)
+
+
+def _response_examples() -> list[Example]:
+    settings = Settings()
+    return [Example(summary=name, value=msgspec.to_builtins(solve_network(req, settings)))
+            for name, req in _EXAMPLES.items()]
+
+
+_REQUEST_EXAMPLES = request_examples("solveNetwork", _EXAMPLES)
+_RESPONSE_EXAMPLES = _response_examples()
+
+
+def network_route_handlers(settings: Settings) -> list[HTTPRouteHandler]:
+    """The network routes of one app, with that app's limits."""
+
+    @post(
+        "/networks/solve",
+        operation_id="solveNetwork",
+        summary="Solve a circuit network (DC or AC)",
+        description=_DESCRIPTION,
+        status_code=200,
+        request_max_body_size=settings.max_network_body_bytes,
+        responses={
+            **error_responses(422),
+            200: ResponseSpec(
+                data_container=s.NetworkSolveResult,
+                generate_examples=False,
+                description="Node voltages, element results, totals and checks, with steps, assumptions and cautions.",
+                examples=_RESPONSE_EXAMPLES,
+            ),
+        },
+        tags=["networks"],
+    )
+    async def solve_network_route(
+        data: Annotated[s.NetworkSolveRequest, Body(media_type=RequestEncodingType.JSON, examples=_REQUEST_EXAMPLES)],
+    ) -> s.NetworkSolveResult:
+        if element_count(data) < IN_LOOP_ELEMENTS:
+            return solve_network(data, settings)
+        return await sync_to_thread(solve_network, data, settings)
+
+    return [solve_network_route]
