@@ -12,11 +12,13 @@ from service import API_VERSION
 from service.api.observability import configure_logging, request_logging_middleware
 from service.api.problems import EXCEPTION_HANDLERS, body_guard
 from service.api.routes.operational import healthz, readyz
+from service.api.routes.v1.chains import analyse_lead_chain
 from service.api.routes.v1.conductors import compute_run_resistance_route, list_conductors
 from service.api.routes.v1.meta import service_meta
 from service.api.routes.v1.networks import network_route_handlers
 from service.api.settings import Settings
 from service.core.conductors import default_library
+from service.core.cords import default_cords
 from service.core.protection import default_protection
 from service.core.data import load_tables
 
@@ -33,6 +35,7 @@ def _load_data(app: Litestar) -> None:
     """Load and validate every data table before serving; a defect stops start-up."""
     load_tables()
     default_library()
+    default_cords()
     default_protection()
     app.state.ready = True
 
@@ -45,6 +48,7 @@ def openapi_config() -> OpenAPIConfig:
         contact=Contact(name="Ampline engineering"),
         tags=[
             Tag(name="conductors", description="Conductor library: sizes, materials, resistance."),
+            Tag(name="lead-chains", description="Chained extension leads and cable reels: drop, heat, protection."),
             Tag(name="meta", description="Service version and data sources."),
             Tag(name="networks", description="Circuit networks: node voltages, currents and powers, DC or AC."),
             Tag(name="operations", description="Liveness and readiness probes."),
@@ -58,7 +62,7 @@ def create_app(settings: Settings | None = None) -> Litestar:
     settings = settings or Settings.from_env()
     configure_logging(settings)
     v1 = Router(path="/v1", route_handlers=[service_meta, list_conductors, compute_run_resistance_route,
-                                            *network_route_handlers(settings)])
+                                            *network_route_handlers(settings), analyse_lead_chain])
     app = Litestar(
         route_handlers=[healthz, readyz, v1],
         exception_handlers=EXCEPTION_HANDLERS,

@@ -1,0 +1,252 @@
+"""Schemas of POST /v1/lead-chains/analyse: a socket, leads plugged end to end, appliances on their outlets."""
+
+from __future__ import annotations
+
+from typing import Annotated, Literal
+
+from msgspec import Meta
+
+from service.api.schemas.v1.common import (
+    CalculationNotes,
+    ConductorClassField,
+    ConductorSizeField,
+    MaterialField,
+    Out,
+    Strict,
+    quantity,
+)
+from service.units import (
+    CURRENT,
+    ENERGY,
+    FREQUENCY,
+    IMPEDANCE,
+    INDUCTIVE_REACTANCE,
+    LENGTH,
+    MASS,
+    POWER,
+    RESIDUAL_CURRENT,
+    RESISTANCE,
+    TEMPERATURE,
+    TEMPERATURE_RISE,
+    VOLTAGE,
+)
+
+MAX_LEADS = 50
+MAX_APPLIANCES = 100
+Name = Annotated[str, Meta(min_length=1, max_length=80, description="A label of your own, echoed in the answer.")]
+
+
+class LoopImpedanceIn(Strict):
+    resistance: quantity(RESISTANCE, "0.45 ohm")  # type: ignore[valid-type]
+    reactance: quantity(INDUCTIVE_REACTANCE, "0.05 ohm") = 0.0  # type: ignore[valid-type]
+
+
+class DeviceIn(Strict):
+    type: Annotated[Literal["B", "C", "D", "gG"], Meta(
+        description="Circuit-breaker curve per IEC 60898-1 (B, C, D) or a gG fuse-link per IEC 60269-1.")]
+    rated_current: quantity(CURRENT, "16 A", 16)  # type: ignore[valid-type]
+
+
+class RcdIn(Strict):
+    rated_residual_current: quantity(RESIDUAL_CURRENT, "30 mA", 0.03)  # type: ignore[valid-type]
+
+
+class SupplyIn(Strict):
+    """The origin socket the first lead plugs into.
+
+    Give the socket's line-neutral loop impedance, or its prospective fault current (then taken as resistive);
+    and its earth-fault loop impedance (Ze at the socket), or the prospective earth-fault current, so the
+    disconnection at the far end can be checked.
+    """
+
+    nominal_voltage: quantity(VOLTAGE, "230 V", 230) = 230.0  # type: ignore[valid-type]
+    frequency: quantity(FREQUENCY, "50 Hz", 60) = 50.0  # type: ignore[valid-type]
+    loop_impedance: LoopImpedanceIn | None = None
+    prospective_fault_current: quantity(CURRENT, "1.2 kA") | None = None  # type: ignore[valid-type]
+    earth_loop_impedance: LoopImpedanceIn | None = None
+    prospective_earth_fault_current: quantity(CURRENT, "800 A") | None = None  # type: ignore[valid-type]
+    earthing: Literal["TN-S", "TN-C-S", "TT"] = "TN-C-S"
+    device: DeviceIn | None = None
+    rcd: RcdIn | None = None
+    electrode_resistance: quantity(IMPEDANCE, "60 ohm") | None = None  # type: ignore[valid-type]
+    ambient_temperature: quantity(TEMPERATURE, "25 degC", 30) = 30.0  # type: ignore[valid-type]
+
+
+class ReelIn(Strict):
+    wound: Annotated[Literal["none", "partly", "fully"], Meta(
+        description="How much cable is still on the drum: none (fully unwound), partly or fully.")]
+    layers_on_drum: Annotated[int, Meta(ge=0, le=50, description="Layers of cable still on the drum, if known.")] | None = None
+    marked_wound_rating: quantity(CURRENT, "5 A") | None = None  # type: ignore[valid-type]
+
+
+class LeadIn(Strict, kw_only=True):
+    name: Name | None = None
+    length: quantity(LENGTH, "25 m", "50 ft")  # type: ignore[valid-type]
+    size: ConductorSizeField
+    material: MaterialField = "copper"
+    conductor_class: ConductorClassField = 5
+    marked_rating: quantity(CURRENT, "13 A") | None = None  # type: ignore[valid-type]
+    reel: ReelIn | None = None
+    plug_fuse: quantity(CURRENT, "13 A") | None = None  # type: ignore[valid-type]
+
+
+class HeatingTaskIn(Strict):
+    """The energy a heating task needs: directly, or to warm a mass of water by a temperature rise."""
+
+    energy: quantity(ENERGY, "1.2 kWh") | None = None  # type: ignore[valid-type]
+    water_mass: quantity(MASS, "20 kg") | None = None  # type: ignore[valid-type]
+    temperature_rise: quantity(TEMPERATURE_RISE, "80 K", "80 degC") | None = None  # type: ignore[valid-type]
+
+
+class ApplianceIn(Strict, kw_only=True):
+    name: Name | None = None
+    outlet: Annotated[int, Meta(ge=0, description=(
+        "The lead whose outlet it is plugged into, counting from 0 for the lead in the socket. "
+        "Leave out for the last lead's outlet."))] | None = None
+    rated_power: quantity(POWER, "2.8 kW", 1500)  # type: ignore[valid-type]
+    rated_voltage: quantity(VOLTAGE, "230 V") = 230.0  # type: ignore[valid-type]
+    power_factor: Annotated[float, Meta(gt=0, le=1, description="cos φ at rated voltage.")] = 1.0
+    leading: bool = False
+    model: Annotated[Literal["constant_impedance", "constant_current", "constant_power"], Meta(description=(
+        "How the appliance follows its voltage: constant_impedance for heaters, urns and filament lamps; "
+        "constant_power for regulated electronics (chargers, LED drivers); constant_current in between."))] = \
+        "constant_impedance"
+    heating: HeatingTaskIn | None = None
+    hours_per_year: Annotated[float, Meta(ge=0, le=8784, description="Hours of use a year, for energy and cost.")] | None = None
+
+
+class LimitsIn(Strict):
+    voltage_drop: Annotated[float, Meta(gt=0, le=50, description=(
+        "Largest drop from the socket to any appliance, in % of the nominal voltage. Default 5 %: IEC 60364-5-52 "
+        "Annex G, Table G.52.1, uses other than lighting."))] = 5.0
+    tariff_per_kwh: Annotated[float, Meta(ge=0, le=1000, description="Energy price per kWh, in your currency.")] | None = None
+    hours_per_year: Annotated[float, Meta(ge=0, le=8784, description=(
+        "Hours a year the whole chain runs as given (for the leads' losses, and for appliances without their own)."))] | None = None
+
+
+class LeadChainRequest(Strict, kw_only=True):
+    supply: SupplyIn
+    leads: Annotated[list[LeadIn], Meta(max_length=MAX_LEADS, description="From the socket outwards.")]
+    appliances: Annotated[list[ApplianceIn], Meta(max_length=MAX_APPLIANCES)] = []
+    limits: LimitsIn = LimitsIn()
+
+
+# -- response ---------------------------------------------------------------
+
+class LeadRatingOut(Out):
+    base_a: float
+    base_source: str
+    ambient_factor: float | None
+    ambient_note: str
+    drum_factor: float | None
+    drum_note: str | None
+    marked_wound_rating_used: bool
+    effective_a: float | None
+
+
+class LeadOut(Out):
+    index: int
+    name: str
+    size_label: str
+    length_m: float
+    current_a: float
+    input_voltage_v: float
+    output_voltage_v: float
+    drop_v: float
+    drop_pct: float
+    loss_w: float
+    conductor_temperature_degc: float
+    rating: LeadRatingOut
+    loading_pct: float | None
+    overload_device: str | None
+    overload_protected: bool | None
+    verdict: Literal["pass", "fail"]
+    problems: list[str]
+
+
+class HeatingOut(Out):
+    energy_j: float
+    time_at_delivered_power_s: float
+    time_at_rated_power_s: float
+    extra_time_s: float
+
+
+class ApplianceOut(Out):
+    index: int
+    name: str
+    outlet: int
+    voltage_v: float
+    current_a: float
+    power_w: float
+    power_pct_of_rated: float
+    drop_from_socket_pct: float
+    heating: HeatingOut | None
+    energy_kwh_per_year: float | None
+    cost_per_year: float | None
+
+
+class EarthFaultOut(Out):
+    required_disconnection_time_s: float | None
+    disconnection_source: str | None
+    voltage_factor_cmin: float | None
+    voltage_factor_source: str | None
+    earth_fault_current_a: float | None
+    disconnecting_current_a: float | None
+    disconnecting_device: str | None
+    max_earth_loop_ohm: float | None
+    disconnects: bool | None
+    route: str | None
+
+
+class FaultOut(Out):
+    line_neutral_loop_ohm: float
+    prospective_short_circuit_a: float
+    earth_loop_ohm: float | None
+    conductor_temperature_degc: float
+    earth_fault: EarthFaultOut
+    problems: list[str]
+
+
+class LengthLimitOut(Out):
+    size_label: str
+    lead_indices: list[int]
+    by_voltage_drop_m: float | None
+    by_disconnection_m: float | None
+    greatest_m: float | None
+    governed_by: str | None
+
+
+class TotalsOut(Out):
+    socket_voltage_v: float
+    lowest_appliance_voltage_v: float
+    total_drop_v: float
+    total_drop_pct: float
+    drop_limit_pct: float
+    drop_complies: bool
+    loss_w: float
+    delivered_w: float
+    supply_current_a: float
+    loss_kwh_per_year: float | None
+    loss_cost_per_year: float | None
+    delivered_kwh_per_year: float | None
+
+
+class SolverOut(Out):
+    temperature_rounds: int
+    temperatures_settled: bool
+    newton_solves: int
+    max_kcl_residual_a: float
+    power_balance_residual_va: float
+
+
+class LeadChainResult(Out):
+    verdict: Literal["pass", "fail"]
+    failed_checks: list[str]
+    leads: list[LeadOut]
+    appliances: list[ApplianceOut]
+    totals: TotalsOut
+    fault: FaultOut
+    length_limits: list[LengthLimitOut]
+    recommendations: list[str]
+    solver: SolverOut
+    notes: CalculationNotes

@@ -1,0 +1,123 @@
+"""The greatest length of each lead type that still meets the drop limit and disconnects a fault.
+
+For every conductor type in the chain: one lead of that type plugged into the
+origin socket with every appliance at its outlet, conductors at the cord's
+maximum operating temperature (conservative).  The drop limit is found by a
+bracketing search on the solved network (the drop grows with length); the
+disconnection limit follows from the loop being linear in length:
+|Ze + 2 r L| <= Zs,max.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+
+from service.core.network import NetworkError
+
+from .circuit import FAULT_TEMPERATURE_C, chain_network
+from .model import Chain, Lead
+from .report import FaultReport, LengthLimit
+from service.core.network import solve
+
+MAX_SEARCH_LENGTH_M = 10_000.0
+LENGTH_TOLERANCE_M = 0.05
+MAX_SEARCH_SOLVES = 40
+
+
+def _drop_pct(chain: Chain, lead: Lead, length_m: float) -> float:
+    """Chain drop with one lead of ``length_m`` feeding every appliance; inf when it cannot be supplied."""
+    single = replace(chain, leads=(replace(lead, length_m=length_m, reel=None),),
+                     appliances=tuple(replace(a, outlet=0) for a in chain.appliances))
+    network, options = chain_network(single, (FAULT_TEMPERATURE_C,))
+    try:
+        solution = solve(network, replace(options, thevenin_between=()))
+    except NetworkError:
+        return math.inf
+    socket = solution.voltage("L0").voltage.magnitude
+    lowest = min(solution.voltage("L1").voltage.magnitude, socket)
+    return 100.0 * (socket - lowest) / chain.supply.nominal_voltage_v
+
+
+def _by_drop(chain: Chain, lead: Lead) -> float | None:
+    """Longest length whose drop stays within the limit, or None if none is reached by MAX_SEARCH_LENGTH_M.
+
+    The drop is nearly proportional to length, so a first guess scaled from one
+    solve is close; the Illinois variant of regula falsi then keeps a bracket
+    [low, high] with f(low) <= 0 < f(high) and converges in a few solves, where
+    bisection would need a dozen or more.
+    """
+    limit = chain.limits.voltage_drop_pct
+    if not chain.appliances:
+        return None
+    excess = lambda length: _drop_pct(chain, lead, length) - limit  # noqa: E731
+    low, f_low = 0.0, -limit
+    probe = max(1.0, lead.length_m)
+    f_probe = excess(probe)
+    solves = 1
+    if f_probe <= 0:
+        guess = probe * limit / max(limit + f_probe, 1e-12)  # proportional extrapolation
+        low, f_low = probe, f_probe
+        high = min(max(guess * 1.02, probe * 1.5), MAX_SEARCH_LENGTH_M)
+        f_high = excess(high)
+        solves += 1
+        while f_high <= 0:
+            if high >= MAX_SEARCH_LENGTH_M:
+                return None
+            low, f_low = high, f_high
+            high = min(high * 2.0, MAX_SEARCH_LENGTH_M)
+            f_high = excess(high)
+            solves += 1
+    else:
+        high, f_high = probe, f_probe
+    side = 0
+    while high - low > LENGTH_TOLERANCE_M and solves < MAX_SEARCH_SOLVES:
+        if math.isfinite(f_high):
+            mid = (low * f_high - high * f_low) / (f_high - f_low)
+            mid = min(max(mid, low + LENGTH_TOLERANCE_M / 2), high - LENGTH_TOLERANCE_M / 2)
+        else:  # the appliances could not be supplied at `high`: bisect until they can
+            mid = 0.5 * (low + high)
+        f_mid = excess(mid)
+        solves += 1
+        if f_mid <= 0:
+            low, f_low = mid, f_mid
+            if side == -1:
+                f_high *= 0.5
+            side = -1
+        else:
+            high, f_high = mid, f_mid
+            if side == 1:
+                f_low *= 0.5
+            side = 1
+        if abs(f_mid) < 1e-6 * limit:
+            return mid if f_mid <= 0 else low
+    return low
+
+
+def _by_disconnection(chain: Chain, lead: Lead, fault: FaultReport) -> float | None:
+    check, ze = fault.earth_fault, chain.supply.line_earth
+    if check is None or ze is None:
+        return None
+    routes = [r.max_zs_ohm for r in (check.overcurrent, check.rcd) if r is not None]
+    zs_max = max(routes)
+    per_m = 2.0 * lead.conductor.resistance_per_m_at(FAULT_TEMPERATURE_C)  # line out, protective conductor back
+    room = zs_max**2 - ze.reactance_ohm**2
+    if room <= 0:
+        return 0.0
+    return max(0.0, (math.sqrt(room) - ze.resistance_ohm) / per_m)
+
+
+def length_limits(chain: Chain, fault: FaultReport) -> tuple[LengthLimit, ...]:
+    groups: dict[tuple, list[int]] = {}
+    for k, lead in enumerate(chain.leads):
+        c = lead.conductor
+        groups.setdefault((c.size_label, c.material.name, c.conductor_class), []).append(k)
+    limits = []
+    for indices in groups.values():
+        lead = chain.leads[indices[0]]
+        drop = _by_drop(chain, lead)
+        disconnection = _by_disconnection(chain, lead, fault)
+        known = [(v, name) for v, name in ((drop, "voltage drop"), (disconnection, "disconnection")) if v is not None]
+        greatest, governed = min(known) if known else (None, None)
+        limits.append(LengthLimit(tuple(indices), lead.conductor.size_label, drop, disconnection, greatest, governed))
+    return tuple(limits)

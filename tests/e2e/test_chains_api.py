@@ -1,0 +1,115 @@
+"""POST /v1/lead-chains/analyse end to end through the ASGI app."""
+
+from __future__ import annotations
+
+import msgspec
+import pytest
+from litestar.testing import TestClient
+
+from service.api.app import create_app
+from service.api.routes.v1.chains import _EXAMPLES
+from service.api.settings import Settings
+
+URL = "/v1/lead-chains/analyse"
+SOCKET = {"loop_impedance": {"resistance": "0.45 ohm"}, "earth_loop_impedance": {"resistance": "0.7 ohm"},
+          "device": {"type": "B", "rated_current": "16 A"}, "rcd": {"rated_residual_current": "30 mA"}}
+
+
+@pytest.fixture(scope="module")
+def client():
+    with TestClient(create_app(Settings())) as c:
+        yield c
+
+
+def problem(response, status=422) -> dict:
+    assert response.status_code == status, response.text
+    assert response.headers["content-type"].startswith("application/problem+json")
+    return response.json()
+
+
+def pointers(body) -> set[str]:
+    return {e["pointer"] for e in body.get("errors", [])}
+
+
+@pytest.mark.parametrize("name", list(_EXAMPLES))
+def test_examples_answer_with_verdicts_steps_and_cautions(client, name):
+    body = client.post(URL, json=msgspec.to_builtins(_EXAMPLES[name])).json()
+    assert body["verdict"] in ("pass", "fail")
+    assert body["leads"] and body["appliances"] and body["notes"]["steps"]
+    cautions = " ".join(body["notes"]["cautions"])
+    assert "RCD" in cautions and "Unwind" in cautions and "Withdraw damaged" in cautions and "competent person" in cautions
+    assert {s["table_id"] for s in body["notes"]["sources"]} >= {"iec60228-table3", "bs7671-table4f3a"}
+
+
+def test_wound_reel_example_fails_and_recommends_unwinding(client):
+    body = client.post(URL, json=msgspec.to_builtins(_EXAMPLES["Workshop planer on a 50 m reel still wound on its drum"])).json()
+    assert body["verdict"] == "fail"
+    assert any("Unwind" in r for r in body["recommendations"])
+    assert body["leads"][0]["rating"]["marked_wound_rating_used"] is True
+
+
+def test_units_at_the_edge(client):
+    # "82 ft" is 24.99 m (1 ft = 0.3048 m): the same chain as 24.9936 m.
+    by_feet = {"supply": SOCKET, "leads": [{"length": "82 ft", "size": "1.5 mm^2"}],
+               "appliances": [{"rated_power": "2 kW"}]}
+    by_metres = {"supply": SOCKET, "leads": [{"length": 82 * 0.3048, "size": "1.5 mm^2"}],
+                 "appliances": [{"rated_power": 2000}]}
+    a, b = client.post(URL, json=by_feet).json(), client.post(URL, json=by_metres).json()
+    assert a["totals"]["total_drop_v"] == pytest.approx(b["totals"]["total_drop_v"], rel=1e-9)
+
+
+def test_heating_task_takes_longer_at_reduced_voltage(client):
+    body = client.post(URL, json={
+        "supply": SOCKET, "leads": [{"length": "30 m", "size": "1.5 mm^2"}],
+        "appliances": [{"rated_power": "3 kW", "heating": {"water_mass": "10 kg", "temperature_rise": "80 degC"}}]}).json()
+    heating = body["appliances"][0]["heating"]
+    # common practice: water needs about 4186 J/(kg K): 10 kg x 80 K = 3.35 MJ; at 3 kW rated, 1116 s
+    assert heating["energy_j"] == pytest.approx(10 * 4186 * 80)
+    assert heating["time_at_rated_power_s"] == pytest.approx(10 * 4186 * 80 / 3000)
+    assert heating["time_at_delivered_power_s"] > heating["time_at_rated_power_s"]
+
+
+def test_energy_and_cost(client):
+    body = client.post(URL, json={
+        "supply": SOCKET, "leads": [{"length": "20 m", "size": "2.5 mm^2"}],
+        "appliances": [{"rated_power": "1 kW", "hours_per_year": 100}], "limits": {"tariff_per_kwh": 0.3}}).json()
+    a = body["appliances"][0]
+    assert a["energy_kwh_per_year"] == pytest.approx(a["power_w"] * 100 / 1000)
+    assert a["cost_per_year"] == pytest.approx(a["energy_kwh_per_year"] * 0.3)
+    assert body["totals"]["loss_cost_per_year"] == pytest.approx(body["totals"]["loss_w"] * 100 / 1000 * 0.3)
+
+
+@pytest.mark.parametrize(
+    ("body", "pointer"),
+    [
+        ({"supply": SOCKET, "leads": []}, "/leads"),
+        ({"supply": SOCKET, "leads": [{"length": "10 m", "size": "1.5 mm^2"}],
+          "appliances": [{"rated_power": "1 kW", "outlet": 4}]}, "/appliances/0/outlet"),
+        ({"supply": SOCKET, "leads": [{"length": "0 m", "size": "1.5 mm^2"}]}, "/leads/0/length"),
+        ({"supply": SOCKET, "leads": [{"length": -5, "size": "1.5 mm^2"}]}, "/leads/0/length"),
+        ({"supply": SOCKET, "leads": [{"length": "10 m", "size": "1.5 mm^2"}],
+          "appliances": [{"rated_power": "-2 kW"}]}, "/appliances/0/rated_power"),
+        ({"supply": SOCKET, "leads": [{"length": "10 m", "size": "3 mm^2"}]}, "/leads/0/size"),
+        ({"supply": {}, "leads": [{"length": "10 m", "size": "1.5 mm^2"}]}, "/supply/loop_impedance"),
+        ({"supply": {**SOCKET, "prospective_fault_current": "1 kA"}, "leads": [{"length": "10 m", "size": "1.5 mm^2"}]},
+         "/supply/prospective_fault_current"),
+        ({"supply": SOCKET, "leads": [{"length": "10 m", "size": "6 mm^2"}]}, "/leads/0/marked_rating"),
+        ({"supply": SOCKET, "leads": [{"length": "10 m", "size": "1.5 mm^2"}],
+          "appliances": [{"rated_power": "1 kW", "heating": {"water_mass": "5 kg"}}]}, "/appliances/0/heating"),
+    ],
+)
+def test_bad_chains_are_422_naming_the_field(client, body, pointer):
+    assert pointer in pointers(problem(client.post(URL, json=body)))
+
+
+def test_a_constant_power_load_the_chain_cannot_supply_says_the_most_it_can(client):
+    body = problem(client.post(URL, json={
+        "supply": {"loop_impedance": {"resistance": "2 ohm"}}, "leads": [{"length": "80 m", "size": "0.75 mm^2"}],
+        "appliances": [{"rated_power": "3 kW", "model": "constant_power"}]}))
+    assert "/appliances/0" in pointers(body)
+    assert "at most" in body["detail"] and "W" in body["detail"]
+
+
+def test_unknown_fields_are_refused(client):
+    body = problem(client.post(URL, json={"supply": SOCKET, "leads": [{"length": "1 m", "size": "1.5 mm^2", "colour": "orange"}]}), 400)
+    assert "/leads/0/colour" in pointers(body)
