@@ -25,3 +25,13 @@ def test_environment_overrides_and_integer_parsing():
 def test_bad_settings_stop_start_up(env):
     with pytest.raises(ValueError):
         Settings.from_env(env)
+
+
+def test_readme_settings_table_lists_every_setting_with_its_default():
+    from dataclasses import fields
+    from pathlib import Path
+
+    readme = (Path(__file__).resolve().parents[2] / "README.md").read_text(encoding="utf-8")
+    for f in fields(Settings):
+        row = f"| `AMPLINE_{f.name.upper()}` | `{f.default}` |"
+        assert row in readme, f"README settings table: missing or stale row for AMPLINE_{f.name.upper()}"
