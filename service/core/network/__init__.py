@@ -13,6 +13,7 @@ Pure: numpy and scipy only.  See model.py for conventions and units.
 from .errors import (
     ConvergenceError,
     CurrentSourceCutsetError,
+    DeadlineExceededError,
     DuplicateElementIdError,
     EmptyNetworkError,
     FloatingNodesError,
@@ -56,15 +57,15 @@ from .results import (
     TheveninEquivalent,
     ThreePhaseSupplyResult,
 )
-from .solver import solve
+from .solver import PreparedNetwork, prepare, solve
 
 __all__ = [
     "ArrayElementResult", "ArrayValues", "CableRun", "Capacitor", "ConvergenceError", "CurrentSource",
-    "CurrentSourceCutsetError", "DuplicateElementIdError", "Element", "ElementResult", "EmptyNetworkError",
+    "CurrentSourceCutsetError", "DeadlineExceededError", "DuplicateElementIdError", "Element", "ElementResult", "EmptyNetworkError",
     "FloatingNodesError", "Impedance", "Inductor", "InvalidNodeError", "InvalidValueError",
     "LineToLineVoltage", "Load", "LoadUndervoltageError", "Network", "NetworkError", "NodeVoltage",
-    "NonFiniteResultError", "Phasor", "PowerTotals", "Resistor", "ResistorArray", "SeriesRLC",
+    "NonFiniteResultError", "Phasor", "PowerTotals", "PreparedNetwork", "Resistor", "ResistorArray", "SeriesRLC",
     "SingularNetworkError", "Solution", "SolveOptions", "SupplyPhaseResult", "Switch",
     "TheveninEquivalent", "ThreePhaseSupply", "ThreePhaseSupplyResult", "VoltageCollapseError",
-    "VoltageSource", "VoltageSourceLoopError", "max_transferable_power", "solve",
+    "VoltageSource", "VoltageSourceLoopError", "max_transferable_power", "prepare", "solve",
 ]

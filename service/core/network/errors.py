@@ -112,6 +112,14 @@ class ConvergenceError(NetworkError):
     CODE = "no_convergence"
 
 
+class DeadlineExceededError(ConvergenceError):
+    """The Newton iteration ran out of its time budget (SolveOptions.deadline_s) before converging.
+
+    A ConvergenceError (same code): the answer is not known, and the data say how
+    far the iteration got (``iterations``, ``mismatch_a``, ``deadline_s``, ``elapsed_s``).
+    """
+
+
 class VoltageCollapseError(NetworkError):
     """Constant-power load(s) asking for more than the network can transfer."""
 

@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 from collections import Counter
 from collections.abc import Callable, Sequence
+from functools import lru_cache
 
 import numpy as np
 
@@ -38,8 +39,8 @@ class _Problems:
         self.positions = positions
 
     def flag(self, els: Sequence, bad: np.ndarray, reason: str) -> None:
-        for j in np.flatnonzero(bad):
-            self.items.append((els[j].id, reason))
+        if _any(bad):
+            self.items.extend((els[j].id, reason) for j in np.flatnonzero(bad))
 
     def raise_if_any(self) -> None:
         if self.items:
@@ -52,6 +53,11 @@ class _Problems:
                 element_positions=self.positions,
                 data={"problems": [{"element": i, "reason": r} for i, r in self.items[:50]]},
             )
+
+
+def _any(mask: np.ndarray) -> bool:
+    """mask.any(), at a third of its cost on the small arrays of a small network."""
+    return np.count_nonzero(mask) > 0
 
 
 def _floats(els: Sequence, attr: str, problems: _Problems, default: float = math.nan) -> np.ndarray:
@@ -68,6 +74,40 @@ def _floats(els: Sequence, attr: str, problems: _Problems, default: float = math
                 out[j] = math.nan
                 problems.items.append((e.id, f"{attr} is not a number"))
         return out
+
+
+# Bounds of a value column: a row is valid iff every value v has lo <= v <= hi.  The
+# bounds are finite, so NaN and +-inf fail both comparisons; "> 0" is ">= the
+# smallest positive double", which is the same test for doubles.
+ANY = (-np.finfo(np.float64).max, np.finfo(np.float64).max)
+AT_LEAST_0 = (0.0, ANY[1])
+ABOVE_0 = (float(np.nextafter(0.0, 1.0)), ANY[1])
+FRACTION = (ABOVE_0[0], 1.0)  # (0, 1]
+
+
+@lru_cache(maxsize=None)
+def _bound_arrays(bounds: tuple[tuple[float, float], ...]) -> np.ndarray:
+    return np.array(bounds).T
+
+
+def _columns(els: Sequence, attrs: tuple[str, ...], problems: _Problems, bounds: tuple[tuple[float, float], ...]):
+    """Several float attributes at once: values of shape (len(els), len(attrs)) and the rows out of bounds.
+
+    One array conversion instead of one per attribute (what a small network's
+    solve time is made of); anything that is not a plain number falls back to
+    :func:`_floats` attribute by attribute, so the problems reported are the same.
+    """
+    try:
+        values = np.array([[getattr(e, a) for a in attrs] for e in els], dtype=np.float64)
+        if values.shape != (len(els), len(attrs)):
+            raise ValueError("not one number per attribute")
+    except (TypeError, ValueError):
+        values = np.stack([_floats(els, a, problems) for a in attrs], axis=1) if els else np.zeros((0, len(attrs)))
+    lo, hi = _bound_arrays(bounds)
+    ok = (values >= lo) & (values <= hi)
+    if np.count_nonzero(ok) == ok.size:
+        return values, np.zeros(len(els), dtype=bool)
+    return values, ~ok.all(axis=1)
 
 
 def _bools(els: Sequence, attr: str, problems: _Problems) -> np.ndarray:
@@ -103,8 +143,6 @@ def expand(net: m.Network, guard_pu: float) -> tuple[Primitives, NodeTable, dict
     if not elements:
         raise EmptyNetworkError("the network has no elements", how_to_fix="add at least one source and one path")
     freq = _check_frequency(net)
-    dc = freq == 0.0
-    omega = 2.0 * math.pi * freq
     if not isinstance(net.reference_node, str) or not net.reference_node:
         raise InvalidNodeError(
             f"reference node {net.reference_node!r} is not a non-empty string",
@@ -186,11 +224,17 @@ def expand(net: m.Network, guard_pu: float) -> tuple[Primitives, NodeTable, dict
             node_names=[net.reference_node],
         )
 
-    dtype = np.float64 if dc else np.complex128
-    b = PrimitiveBuilder(len(elements), dtype)
+    return _reduce(elements, groups, table, positions, freq, guard_pu), table, positions
+
+
+def _reduce(elements, groups: dict[type, list[int]], table: NodeTable, positions: dict[str, int],
+            freq: float, guard_pu: float) -> Primitives:
+    """Check values and reduce the grouped elements to primitives (the per-type handlers)."""
+    dc = freq == 0.0
+    b = PrimitiveBuilder(len(elements), np.float64 if dc else np.complex128)
     problems = _Problems(positions)
     self_loops: list[str] = []
-    ctx = _Ctx(elements, table, b, problems, dc, omega, guard_pu, self_loops)
+    ctx = _Ctx(elements, table, b, problems, dc, 2.0 * math.pi * freq, guard_pu, self_loops)
     for t, idx in groups.items():
         _HANDLERS[t](ctx, np.asarray(idx, dtype=np.int64))
     problems.raise_if_any()
@@ -201,7 +245,26 @@ def expand(net: m.Network, guard_pu: float) -> tuple[Primitives, NodeTable, dict
             element_ids=self_loops,
             element_positions=positions,
         )
-    return b.build(table.size), table, positions
+    return b.build(table.size)
+
+
+def reduce_some(net: m.Network, subset: Sequence[int], table: NodeTable, positions: dict[str, int],
+                guard_pu: float) -> Primitives:
+    """Primitives of the elements at ``subset`` only, in a network already expanded once.
+
+    For :meth:`PreparedNetwork.replace`: the elements keep their type and nodes,
+    so only their values are checked again, by the same handlers in the same
+    order as :func:`expand` would (groups in order of the network's first
+    element of each type), hence the same errors.  Entries of the result's
+    elem_* arrays outside ``subset`` are meaningless.
+    """
+    elements = net.elements
+    first = {t: None for t in map(type, elements)}  # group order of expand()
+    groups: dict[type, list[int]] = {t: [] for t in first}
+    for i in sorted(subset):
+        groups[type(elements[i])].append(i)
+    groups = {t: idx for t, idx in groups.items() if idx}
+    return _reduce(elements, groups, table, positions, _check_frequency(net), guard_pu)
 
 
 class _Ctx:
@@ -221,28 +284,31 @@ class _Ctx:
         return self.table.indices([getattr(e, attr) for e in els])
 
     def two_terminal(self, idx: np.ndarray, a_attr: str = "a", b_attr: str = "b"):
-        els = [self.elements[i] for i in idx]
+        els = [self.elements[i] for i in idx.tolist()]
         na, nb = self.nodes(els, a_attr), self.nodes(els, b_attr)
-        self.self_loops.extend(els[j].id for j in np.flatnonzero(na == nb))
+        same = na == nb
+        if _any(same):
+            self.self_loops.extend(els[j].id for j in np.flatnonzero(same))
         return els, na, nb
 
     def impedance_split(self, idx, na, nb, z: np.ndarray) -> None:
         """Route elements by impedance: Z == 0 -> zero-volt branch, else admittance 1/Z."""
         short = z == 0
-        if short.any():
+        if _any(short):
             s = short
             zeros = np.zeros(int(s.sum()), dtype=self.b.dtype)
             self.b.add(BRANCH, idx[s], 1, na[s], nb[s], zeros, zeros)
-        k = ~short
-        if k.any():
+            k = ~short
+            idx, na, nb, z = idx[k], na[k], nb[k], z[k]
+        if idx.size:
             with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
-                y = 1.0 / z[k]
+                y = 1.0 / z
             tiny = ~np.isfinite(y)
-            if tiny.any():  # e.g. 1e-320 ohm: 1/Z overflows double precision
-                self.problems.flag([self.elements[i] for i in idx[k]], tiny,
+            if _any(tiny):  # e.g. 1e-320 ohm: 1/Z overflows double precision
+                self.problems.flag([self.elements[i] for i in idx], tiny,
                                    "impedance too small to represent (give exactly 0 for an ideal short)")
                 y = np.where(tiny, 1.0, y)
-            self.b.add(ADMITTANCE, idx[k], 1, na[k], nb[k], y)
+            self.b.add(ADMITTANCE, idx, 1, na, nb, y)
 
     def open(self, idx, na, nb) -> None:
         if idx.size:
@@ -259,19 +325,28 @@ def _nonfinite(*arrays: np.ndarray) -> np.ndarray:
     return bad
 
 
+def _split(columns: tuple[np.ndarray, np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+    """(values, bad) of :func:`_columns` as (one array per attribute, bad)."""
+    values, bad = columns
+    return values.T, bad
+
+
+# Load model -> exponent k of S = S0 (|V|/V0)^k.
+_LOAD_EXPONENT = {"constant_impedance": 2.0, "constant_current": 1.0, "constant_power": 0.0}
+
+
 def _resistor(ctx: _Ctx, idx: np.ndarray) -> None:
     els, na, nb = ctx.two_terminal(idx)
     r = _floats(els, "resistance_ohm", ctx.problems)
-    ctx.problems.flag(els, _nonfinite(r) | (r < 0), "resistance_ohm must be finite and >= 0")
-    z = np.where(np.isfinite(r) & (r >= 0), r, 1.0).astype(ctx.b.dtype)
+    ok = np.isfinite(r) & (r >= 0)
+    ctx.problems.flag(els, ~ok, "resistance_ohm must be finite and >= 0")
+    z = np.where(ok, r, 1.0).astype(ctx.b.dtype)
     ctx.impedance_split(idx, na, nb, z)
 
 
 def _impedance(ctx: _Ctx, idx: np.ndarray) -> None:
     els, na, nb = ctx.two_terminal(idx)
-    r = _floats(els, "resistance_ohm", ctx.problems)
-    x = _floats(els, "reactance_ohm", ctx.problems)
-    bad = _nonfinite(r, x) | (r < 0)
+    (r, x), bad = _split(_columns(els, ("resistance_ohm", "reactance_ohm"), ctx.problems, (AT_LEAST_0, ANY)))
     ctx.problems.flag(els, bad, "resistance_ohm must be finite and >= 0, reactance_ohm finite")
     if ctx.dc:
         ctx.problems.flag(
@@ -332,22 +407,20 @@ def _source_phasor(ctx: _Ctx, els, mag: np.ndarray, phase: np.ndarray) -> np.nda
 
 def _voltage_source(ctx: _Ctx, idx: np.ndarray) -> None:
     els, na, nb = ctx.two_terminal(idx, "pos", "neg")
-    v = _floats(els, "voltage_v", ctx.problems)
-    ph = _floats(els, "phase_deg", ctx.problems)
-    r = _floats(els, "internal_resistance_ohm", ctx.problems)
-    x = _floats(els, "internal_reactance_ohm", ctx.problems)
-    bad = _nonfinite(v, ph, r, x) | (r < 0) | (x < 0)
+    values, bad = _columns(els, ("voltage_v", "phase_deg", "internal_resistance_ohm", "internal_reactance_ohm"),
+                           ctx.problems, (ANY, ANY, AT_LEAST_0, AT_LEAST_0))
     ctx.problems.flag(els, bad, "values must be finite, internal R and X >= 0")
-    e = _source_phasor(ctx, els, np.where(bad, 0.0, v), np.where(bad, 0.0, ph))
-    z = ctx.complex_or_real(np.where(bad, 0.0, r), np.where(bad, 0.0, x))
+    if _any(bad):
+        values = np.where(bad[:, None], 0.0, values)
+    v, ph, r, x = values.T
+    e = _source_phasor(ctx, els, v, ph)
+    z = ctx.complex_or_real(r, x)
     ctx.b.add(BRANCH, idx, 1, na, nb, e, z)
 
 
 def _current_source(ctx: _Ctx, idx: np.ndarray) -> None:
     els, na, nb = ctx.two_terminal(idx)
-    i = _floats(els, "current_a", ctx.problems)
-    ph = _floats(els, "phase_deg", ctx.problems)
-    bad = _nonfinite(i, ph)
+    (i, ph), bad = _split(_columns(els, ("current_a", "phase_deg"), ctx.problems, (ANY, ANY)))
     ctx.problems.flag(els, bad, "current_a and phase_deg must be finite")
     j = _source_phasor(ctx, els, np.where(bad, 0.0, i), np.where(bad, 0.0, ph))
     ctx.b.add(INJECTION, idx, 1, na, nb, j)
@@ -363,41 +436,49 @@ def _switch(ctx: _Ctx, idx: np.ndarray) -> None:
 
 def _cable_run(ctx: _Ctx, idx: np.ndarray) -> None:
     els, na, nb = ctx.two_terminal(idx)
-    length = _floats(els, "length_m", ctx.problems)
-    r = _floats(els, "resistance_ohm_per_m", ctx.problems)
-    x = _floats(els, "reactance_ohm_per_m", ctx.problems)
+    values, bad = _columns(els, ("length_m", "resistance_ohm_per_m", "reactance_ohm_per_m"), ctx.problems,
+                           (ABOVE_0, AT_LEAST_0, AT_LEAST_0))
     loop = _bools(els, "go_and_return", ctx.problems)
-    bad = _nonfinite(length, r, x) | (length <= 0) | (r < 0) | (x < 0)
     ctx.problems.flag(els, bad, "length_m must be > 0, per-metre R and X finite and >= 0")
-    eff = np.where(bad, 1.0, length) * np.where(loop, 2.0, 1.0)
-    z = ctx.complex_or_real(eff * np.where(bad, 1.0, r), eff * np.where(bad, 0.0, x))
+    if _any(bad):
+        values = np.where(bad[:, None], (1.0, 1.0, 0.0), values)
+    length, r, x = values.T
+    eff = length * np.where(loop, 2.0, 1.0)
+    z = ctx.complex_or_real(eff * r, eff * x)
     ctx.impedance_split(idx, na, nb, z)
 
 
 def _load(ctx: _Ctx, idx: np.ndarray) -> None:
     els, na, nb = ctx.two_terminal(idx)
-    p = _floats(els, "rated_power_w", ctx.problems)
-    v0 = _floats(els, "rated_voltage_v", ctx.problems)
-    pf = _floats(els, "power_factor", ctx.problems)
+    values, bad = _columns(els, ("rated_power_w", "rated_voltage_v", "power_factor"), ctx.problems,
+                           (ABOVE_0, ABOVE_0, FRACTION))
     leading = _bools(els, "leading", ctx.problems)
     model = [e.model for e in els]
-    bad = _nonfinite(p, v0, pf) | (p <= 0) | (v0 <= 0) | ~((pf > 0) & (pf <= 1))
     ctx.problems.flag(els, bad, "rated_power_w and rated_voltage_v must be > 0, power_factor in (0, 1]")
-    ctx.problems.flag(els, np.array([mo not in m.LOAD_MODELS for mo in model]),
-                      f"model must be one of {', '.join(m.LOAD_MODELS)}")
-    p, v0, pf = np.where(bad, 1.0, p), np.where(bad, 1.0, v0), np.where(bad, 1.0, pf)
+    k = np.array([_LOAD_EXPONENT.get(mo, math.nan) if isinstance(mo, str) else math.nan for mo in model])
+    unknown = np.isnan(k)
+    ctx.problems.flag(els, unknown, f"model must be one of {', '.join(m.LOAD_MODELS)}")
+    if _any(bad):
+        values = np.where(bad[:, None], 1.0, values)
+    p, v0, pf = values.T
     if ctx.dc:
-        s0 = p.astype(np.float64)
+        s0 = p.copy()
     else:
-        q = p * np.tan(np.arccos(pf)) * np.where(leading, -1.0, 1.0)
+        q = p * np.tan(np.arccos(pf))
+        if _any(leading):
+            q = np.where(leading, -q, q)
         s0 = p + 1j * q
-    k = np.array([{"constant_impedance": 2.0, "constant_current": 1.0}.get(mo, 0.0) for mo in model])
+    k = np.where(unknown, 0.0, k)
     # Y = conj(S)/|V|^2 at rated voltage; a lagging load (Q > 0) is inductive.
     lin = k == 2.0
-    if lin.any():
-        ctx.b.add(ADMITTANCE, idx[lin], 1, na[lin], nb[lin], np.conj(s0[lin]) / v0[lin] ** 2)
+    linear = np.count_nonzero(lin)
+    if linear == lin.size:
+        ctx.b.add(ADMITTANCE, idx, 1, na, nb, np.conj(s0) / (v0 * v0))
+        return
+    if linear:
+        ctx.b.add(ADMITTANCE, idx[lin], 1, na[lin], nb[lin], np.conj(s0[lin]) / (v0[lin] * v0[lin]))
     nl = ~lin
-    if nl.any():
+    if _any(nl):
         kk, vv = k[nl], v0[nl]
         c = np.conj(s0[nl]) / vv**kk  # i = c |v|^(k-2) v gives S = S0 (|v|/V0)^k
         ctx.b.add(NONLINEAR, idx[nl], 1, na[nl], nb[nl], c, kk, vv, ctx.guard_pu * vv, s0[nl])
@@ -411,10 +492,8 @@ def _three_phase(ctx: _Ctx, idx: np.ndarray) -> None:
     for j, e in enumerate(els):
         if len(set(nodes4[j].tolist())) < 4:
             ctx.self_loops.append(e.id)
-    v = _floats(els, "line_to_neutral_voltage_v", ctx.problems)
-    r = _floats(els, "internal_resistance_ohm", ctx.problems)
-    x = _floats(els, "internal_reactance_ohm", ctx.problems)
-    bad = _nonfinite(v, r, x) | (v <= 0) | (r < 0) | (x < 0)
+    (v, r, x), bad = _split(_columns(els, ("line_to_neutral_voltage_v", "internal_resistance_ohm",
+                                           "internal_reactance_ohm"), ctx.problems, (ABOVE_0, AT_LEAST_0, AT_LEAST_0)))
     ctx.problems.flag(els, bad, "line_to_neutral_voltage_v must be > 0, internal R and X >= 0")
     known = m.POSITIVE_SEQUENCE + m.NEGATIVE_SEQUENCE
     seq_bad = np.array([e.sequence not in known for e in els])

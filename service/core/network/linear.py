@@ -26,10 +26,19 @@ import warnings
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
+from scipy.linalg import lapack
 
 from .errors import SingularNetworkError
 
 ORDERING = "MMD_AT_PLUS_A"
+
+
+def _singular(reason: str) -> SingularNetworkError:
+    return SingularNetworkError(
+        f"the network equations are singular ({reason})",
+        how_to_fix="look for parts whose voltage or current is not determined, e.g. an "
+        "inductor and capacitor exactly in resonance, or ideal elements in conflict",
+    )
 
 
 class Factor:
@@ -43,11 +52,35 @@ class Factor:
                 warnings.simplefilter("error", spla.MatrixRankWarning)
                 self._lu = spla.splu(matrix, permc_spec=ORDERING)
         except (RuntimeError, spla.MatrixRankWarning) as exc:
-            raise SingularNetworkError(
-                f"the network equations are singular ({exc})",
-                how_to_fix="look for parts whose voltage or current is not determined, e.g. an "
-                "inductor and capacitor exactly in resonance, or ideal elements in conflict",
-            ) from exc
+            raise _singular(str(exc)) from exc
 
     def solve(self, rhs: np.ndarray) -> np.ndarray:
         return self._lu.solve(rhs)
+
+
+_GETRF = {np.dtype(np.float64): (lapack.dgetrf, lapack.dgetrs), np.dtype(np.complex128): (lapack.zgetrf, lapack.zgetrs)}
+
+
+class DenseFactor:
+    """LAPACK LU with partial pivoting (getrf/getrs) of a small dense matrix; same interface as Factor.
+
+    The matrix is consumed: getrf factorises its transpose in place (a C-ordered
+    array is a Fortran-ordered transpose, so no copy), and getrs then solves
+    with trans=1, i.e. with the transpose of that, which is the matrix itself
+    (a plain transpose, not the conjugate one, for complex matrices too).  An
+    exactly zero pivot is the same "exactly singular" case SuperLU reports.
+    """
+
+    __slots__ = ("_lu", "_piv", "_getrs")
+
+    def __init__(self, matrix: np.ndarray) -> None:
+        getrf, self._getrs = _GETRF[matrix.dtype]
+        self._lu, self._piv, info = getrf(matrix.T, overwrite_a=True)
+        if info > 0:
+            raise _singular("Factor is exactly singular")
+        if info < 0:  # pragma: no cover - an argument error is a bug here, not a property of the network
+            raise ValueError(f"getrf argument {-info} is invalid")
+
+    def solve(self, rhs: np.ndarray) -> np.ndarray:
+        x, _ = self._getrs(self._lu, self._piv, rhs, trans=1)
+        return x

@@ -21,6 +21,8 @@ load is [[Re di/dx, Re di/dy], [Im di/dx, Im di/dy]].
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 
@@ -60,12 +62,17 @@ def max_transferable_power(vth: complex, zth: complex, s_angle_rad: float) -> fl
     Vth^2 / (4 Rth).  (Textbook maximum-power-transfer result, from memory;
     the unit tests check it against a brute-force maximisation.)
     """
-    mag = abs(zth)
+    mag = math.hypot(zth.real, zth.imag)  # abs() of a complex raises OverflowError where hypot gives inf
     beta = zth.real * np.cos(s_angle_rad) + zth.imag * np.sin(s_angle_rad)
     denom = 2.0 * (mag + beta)
-    if not np.isfinite(mag) or denom <= 0.0:
-        return 0.0 if not np.isfinite(mag) else float("inf")
-    return float(abs(vth) ** 2 / denom)
+    if not math.isfinite(mag) or denom <= 0.0:
+        return 0.0 if not math.isfinite(mag) else math.inf
+    v = math.hypot(vth.real, vth.imag)
+    smax = float(v * v / denom)  # float ** raises OverflowError; * gives inf
+    if math.isinf(smax) and math.isfinite(v):  # V^2 overflowed on the way, the quotient may not
+        ratio = v / math.sqrt(denom)
+        smax = ratio * ratio
+    return smax
 
 
 def upper_operating_voltage(vth: complex, zth: complex, s0: complex) -> float | None:
@@ -79,8 +86,10 @@ def upper_operating_voltage(vth: complex, zth: complex, s0: complex) -> float | 
     whose larger root is the upper solution.  None when the discriminant is
     negative (no operating point: the load exceeds the maximum transfer).
     """
-    b = 2.0 * (zth * s0.conjugate()).real - abs(vth) ** 2
-    disc = b * b - 4.0 * (abs(zth) * abs(s0)) ** 2
-    if not np.isfinite(disc) or disc < 0:
+    v = math.hypot(vth.real, vth.imag)
+    zs = math.hypot(zth.real, zth.imag) * math.hypot(s0.real, s0.imag)
+    b = 2.0 * (zth * s0.conjugate()).real - v * v  # products, not **: they give inf rather than raise
+    disc = b * b - 4.0 * zs * zs
+    if not math.isfinite(disc) or disc < 0:
         return None
-    return float(np.sqrt((-b + np.sqrt(disc)) / 2.0))
+    return float(np.sqrt((-b + math.sqrt(disc)) / 2.0))  # nan, as before, if the root is negative

@@ -320,6 +320,12 @@ class SolveOptions:
       guarded solution and lists those loads in ``Solution.guarded_loads``.
     * ``thevenin_between``: node pairs (a, b) for which to report the
       Thevenin equivalent of the solved network seen between a and b.
+    * ``deadline_s``: a wall-clock budget in seconds for the load-flow
+      iteration, counted from the start of the solve; None (the default) means
+      only ``max_iterations`` bounds it.  It is checked after every Newton step,
+      so a step in progress is finished (the overrun is at most one step) and a
+      network without nonlinear loads is never stopped.  Running out before
+      convergence raises DeadlineExceededError (a ConvergenceError).
     """
 
     max_iterations: int = 30
@@ -328,3 +334,4 @@ class SolveOptions:
     load_guard_voltage_pu: float = 0.7
     on_load_undervoltage: Literal["error", "constant_impedance"] = "error"
     thevenin_between: tuple[tuple[str, str], ...] = ()
+    deadline_s: float | None = None

@@ -12,17 +12,22 @@ exact Jacobian (real 2N form for AC, see loads.py) and halves the step while
 the KCL mismatch does not decrease (a damped Newton).  The branch-law rows are
 linear, so every step keeps them satisfied and the mismatch is measured on the
 KCL rows, in amperes.
+
+The matrices come from the network's system (assemble.py): sparse for big
+networks, dense for small ones; the iteration is the same.  An optional
+deadline (a time.monotonic() value) is checked after every Newton step: when
+it has passed before convergence the result says so (``out_of_time``) and the
+caller stops, so the overrun is at most one step.
 """
 
 from __future__ import annotations
 
+import time
 from dataclasses import dataclass
 
 import numpy as np
-import scipy.sparse as sp
 
-from .assemble import scatter_sum, mna_coo, real_form, to_csc
-from .linear import Factor
+from .assemble import amax, node_sums, terminal_index
 from .loads import load_currents
 from .primitives import Primitives
 
@@ -37,6 +42,7 @@ class NewtonResult:
     mismatch_a: float
     load_current: np.ndarray
     guarded: np.ndarray
+    out_of_time: bool = False
 
 
 def port_voltage(x: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
@@ -45,69 +51,47 @@ def port_voltage(x: np.ndarray, a: np.ndarray, b: np.ndarray) -> np.ndarray:
     return va - vb
 
 
-def _load_stamps(p: Primitives, g11, g12, g21, g22, size: int, real2: bool):
-    """COO of the loads' Jacobian blocks; g.. are the 2x2 block entries per load."""
-    rows, cols, vals = [], [], []
-    for ta, tb, sgn in ((p.nl_a, p.nl_a, 1.0), (p.nl_b, p.nl_b, 1.0), (p.nl_a, p.nl_b, -1.0), (p.nl_b, p.nl_a, -1.0)):
-        ok = (ta >= 0) & (tb >= 0)
-        r, c = ta[ok], tb[ok]
-        rows.append(r)
-        cols.append(c)
-        vals.append(sgn * g11[ok])
-        if real2:
-            rows += [r, r + size, r + size]
-            cols += [c + size, c, c + size]
-            vals += [sgn * g12[ok], sgn * g21[ok], sgn * g22[ok]]
-    return np.concatenate(rows), np.concatenate(cols), np.concatenate(vals)
-
-
 def solve_nonlinear(
-    p: Primitives, coo, rhs: np.ndarray, max_iterations: int, tol_abs: float, tol_rel: float
+    p: Primitives, system, rhs: np.ndarray, max_iterations: int, tol_abs: float, tol_rel: float,
+    deadline: float | None = None,
 ) -> NewtonResult:
     n, size = p.n, p.n + p.m
     dc = p.dtype is np.float64
     y_rated = p.nl_c * p.nl_v0 ** (p.nl_k - 2.0)
-    start = to_csc(*mna_coo(p, p.nl_a, p.nl_b, y_rated), size)
-    x = Factor(start).solve(rhs)
+    x = system.factor(system.with_admittance(y_rated), overwrite=True).solve(rhs)
     solves = 1
-    a_lin = to_csc(*coo, size).tocsr()
+    a_lin = system.operator()
     abs_a = abs(a_lin)
-    base_real = coo if dc else real_form(*coo, size)
+    ports = terminal_index(p.nl_a, p.nl_b, n)
+    ga, gb = np.maximum(p.nl_a, 0), np.maximum(p.nl_b, 0)
+    on_a, on_b = p.nl_a >= 0, p.nl_b >= 0
+    rhs_scale = amax(np.abs(rhs[:n]))
 
     def residual(x):
-        v = port_voltage(x, p.nl_a, p.nl_b)
+        v = np.where(on_a, x[ga], 0.0) - np.where(on_b, x[gb], 0.0)  # port_voltage, indices hoisted
         i, dx_, dy_, guarded = load_currents(v, p.nl_c, p.nl_k, p.nl_vg)
         if dc:
             i = i.real
         f = a_lin @ x - rhs
-        f[:n] += scatter_sum(p.nl_a, i, n) - scatter_sum(p.nl_b, i, n)
-        scale = max(
-            float(np.max((abs_a @ np.abs(x))[:n], initial=0.0)),
-            float(np.max(np.abs(i), initial=0.0)),
-            float(np.max(np.abs(rhs[:n]), initial=0.0)),
-        )
-        return f, float(np.max(np.abs(f[:n]), initial=0.0)), scale, (i, dx_, dy_, guarded)
+        f[:n] += node_sums(ports, i, n)
+        scale = max(amax((abs_a @ np.abs(x))[:n]), amax(np.abs(i)), rhs_scale)
+        return f, amax(np.abs(f[:n])), scale, (i, dx_, dy_, guarded)
 
     f, mis, scale, loads = residual(x)
-    converged = False
+    converged = out_of_time = False
     for _ in range(max_iterations):
         if mis <= max(tol_abs, tol_rel * scale):
             converged = True
             break
+        if deadline is not None and solves > 1 and time.monotonic() >= deadline:
+            out_of_time = True
+            break
         _, di_dx, di_dy, _ = loads
+        factor = system.factor(system.jacobian(di_dx, di_dy), overwrite=True)
         if dc:
-            lr, lc, lv = _load_stamps(p, di_dx.real, None, None, None, size, False)
-            jac = to_csc(np.concatenate([base_real[0], lr]), np.concatenate([base_real[1], lc]),
-                         np.concatenate([base_real[2], lv]), size)
-            dx = Factor(jac).solve(-f)
+            dx = factor.solve(-f)
         else:
-            lr, lc, lv = _load_stamps(p, di_dx.real, di_dy.real, di_dx.imag, di_dy.imag, size, True)
-            jac = sp.csc_matrix(
-                (np.concatenate([base_real[2], lv]),
-                 (np.concatenate([base_real[0], lr]), np.concatenate([base_real[1], lc]))),
-                shape=(2 * size, 2 * size),
-            )
-            d = Factor(jac).solve(-np.concatenate([f.real, f.imag]))
+            d = factor.solve(-np.concatenate([f.real, f.imag]))
             dx = d[:size] + 1j * d[size:]
         solves += 1
         step = 1.0
@@ -123,4 +107,4 @@ def solve_nonlinear(
     else:
         converged = mis <= max(tol_abs, tol_rel * scale)
     i, _, _, guarded = loads
-    return NewtonResult(x, solves, converged, mis, i, guarded)
+    return NewtonResult(x, solves, converged, mis, i, guarded, out_of_time)

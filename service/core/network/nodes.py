@@ -45,17 +45,25 @@ class NodeTable:
         scalar_labels: list[int] = []
         int_names: list[str] = []
         for name in names:
+            if name == reference:
+                continue
             lab = int_label(name)
             if lab is None:
                 named[name] = None
             else:
                 scalar_labels.append(lab)
                 int_names.append(name)
+        if not (int_names or label_arrays):  # free-form names only: no label arrays to build
+            self._labels = np.zeros(0, dtype=np.int64)
+            self._lookup = None
+            self._named = list(named)
+            self._named_index = {n: i for i, n in enumerate(self._named)}
+            self._named_index[reference] = REF
+            self.size = len(self._named)
+            return
         ref_label = int_label(reference)
         if ref_label is not None:
             scalar_labels.append(ref_label)
-        else:
-            named[reference] = None
 
         parts = [np.asarray(scalar_labels, dtype=np.int64), *label_arrays]
         total = sum(p.size for p in parts)

@@ -18,7 +18,7 @@ Node indices are matrix indices, the reference node is -1 (see nodes.py).
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -91,22 +91,21 @@ class PrimitiveBuilder:
             self.elem_start[owners[0]] = start
             self.elem_stop[owners[0]] = start + rows
         else:
-            owner_rows = np.repeat(owners, per_owner)
-            self.elem_start[owners] = start + per_owner * np.arange(owners.size)
-            self.elem_stop[owners] = self.elem_start[owners] + per_owner
+            owner_rows = owners if per_owner == 1 else np.repeat(owners, per_owner)
+            first = start + per_owner * np.arange(owners.size)
+            self.elem_start[owners] = first
+            self.elem_stop[owners] = first + per_owner
         self.elem_cat[owners] = cat
         self.chunks[cat].append((*cols, owner_rows))
         self.count[cat] += rows
 
     def _cat(self, cat: int, ncols: int, dtypes: tuple[type, ...]) -> list[np.ndarray]:
         parts = self.chunks[cat]
-        out = []
-        for c in range(ncols):
-            if parts:
-                out.append(np.concatenate([np.asarray(p[c], dtype=dtypes[c]) for p in parts]))
-            else:
-                out.append(np.zeros(0, dtype=dtypes[c]))
-        return out
+        if len(parts) == 1:  # the usual case: one element type per primitive kind, no copy needed
+            return [np.asarray(parts[0][c], dtype=dtypes[c]) for c in range(ncols)]
+        if not parts:
+            return [np.zeros(0, dtype=t) for t in dtypes]
+        return [np.concatenate([np.asarray(p[c], dtype=dtypes[c]) for p in parts]) for c in range(ncols)]
 
     def build(self, n: int) -> Primitives:
         i, f, d = np.int64, np.float64, self.dtype
@@ -118,3 +117,49 @@ class PrimitiveBuilder:
         return Primitives(
             n, d, *adm, *br, *inj, *nl, *op, self.elem_cat, self.elem_start, self.elem_stop
         )
+
+
+# The value columns of each primitive kind; the others (nodes, owners) are structure.
+VALUE_FIELDS = {
+    ADMITTANCE: ("adm_y",),
+    BRANCH: ("br_e", "br_z"),
+    INJECTION: ("inj_j",),
+    NONLINEAR: ("nl_c", "nl_k", "nl_v0", "nl_vg", "nl_s0"),
+    OPEN: (),
+}
+
+
+def _rows(start: np.ndarray, stop: np.ndarray) -> np.ndarray:
+    """The rows [start_k, stop_k) of every k, concatenated."""
+    lengths = stop - start
+    if np.all(lengths == 1):
+        return start
+    return np.repeat(start - np.cumsum(lengths) + lengths, lengths) + np.arange(int(lengths.sum()))
+
+
+def with_values_of(p: Primitives, sub: Primitives, owners: np.ndarray) -> Primitives | None:
+    """``p`` with the values of elements ``owners`` taken from ``sub`` (their primitives alone).
+
+    None when an element's primitives changed kind or count, or a branch
+    changed between zero and non-zero impedance: then the structure is not
+    the same (topology checks and stamp positions would change).
+    """
+    if not (np.array_equal(p.elem_cat[owners], sub.elem_cat[owners])
+            and np.array_equal(p.elem_stop[owners] - p.elem_start[owners],
+                               sub.elem_stop[owners] - sub.elem_start[owners])):
+        return None
+    changes: dict[str, np.ndarray] = {}
+    cats = p.elem_cat[owners]
+    for cat, fields in VALUE_FIELDS.items():
+        sel = owners[cats == cat]
+        if not fields or sel.size == 0:
+            continue
+        dst = _rows(p.elem_start[sel], p.elem_stop[sel])
+        src = _rows(sub.elem_start[sel], sub.elem_stop[sel])
+        for name in fields:
+            column = getattr(p, name).copy()
+            column[dst] = getattr(sub, name)[src]
+            changes[name] = column
+        if cat == BRANCH and not np.array_equal(p.br_z[dst] == 0, changes["br_z"][dst] == 0):
+            return None
+    return replace(p, **changes)

@@ -10,7 +10,6 @@ element); sources also report ``supplied_w`` / ``supplied_var`` = -absorbed.
 
 from __future__ import annotations
 
-import cmath
 import math
 from dataclasses import dataclass
 from typing import Union
@@ -18,7 +17,7 @@ from typing import Union
 import numpy as np
 
 from . import model as m
-from .assemble import scatter_sum
+from .assemble import amax
 from .nodes import NodeTable
 from .primitives import ADMITTANCE, BRANCH, INJECTION, NONLINEAR, OPEN, Primitives
 
@@ -36,8 +35,12 @@ class Phasor:
 
     @classmethod
     def of(cls, z: complex) -> Phasor:
+        # math.hypot and math.atan2 are what abs() and cmath.phase() compute, minus their range errors:
+        # cmath.phase raises on an angle that underflows (1e6 - 5e-324j) and abs() on a magnitude that
+        # overflows, where these return -0.0 and inf (solve() refuses non-finite magnitudes beforehand).
         z = complex(z)
-        return cls(z.real, z.imag, abs(z), math.degrees(cmath.phase(z)) if z != 0 else 0.0)
+        re, im = z.real, z.imag
+        return cls(re, im, math.hypot(re, im), math.degrees(math.atan2(im, re)) if z != 0 else 0.0)
 
     @property
     def value(self) -> complex:
@@ -257,14 +260,20 @@ def _element_result(st: SolvedState, pos: int) -> AnyElementResult:
     if el.kind in SOURCE_KINDS:
         extra["supplied_w"], extra["supplied_var"] = -sc.real, -sc.imag
         if isinstance(el, m.VoltageSource):
-            extra["internal_loss_w"] = abs(i) ** 2 * float(np.real(p.br_z[s]))
+            extra["internal_loss_w"] = _squared(i) * float(p.br_z[s].real)
     elif isinstance(el, m.Load):
         extra["load_model"] = el.model
         extra["rated_power_fraction"] = sc.real / el.rated_power_w
         if cat == NONLINEAR:
             extra["below_guard_voltage"] = bool(st.guarded[s])
     return ElementResult(el.id, el.kind, a_name, b_name, Phasor.of(v), Phasor.of(i), sc.real, sc.imag,
-                         abs(sc), pf, sense, **extra)
+                         math.hypot(sc.real, sc.imag), pf, sense, **extra)
+
+
+def _squared(z: complex) -> float:
+    """abs(z) ** 2 without Python's OverflowError (abs() and ** raise where * gives inf)."""
+    h = math.hypot(z.real, z.imag)
+    return h * h
 
 
 def _three_phase_result(st: SolvedState, el: m.ThreePhaseSupply, s: int) -> ThreePhaseSupplyResult:
@@ -278,7 +287,7 @@ def _three_phase_result(st: SolvedState, el: m.ThreePhaseSupply, s: int) -> Thre
         v_ph = st.node_v(idx[k]) - vn
         sup = v_ph * i_line.conjugate()
         total += sup
-        loss += abs(i_line) ** 2 * float(np.real(p.br_z[s + k]))
+        loss += _squared(i_line) * float(p.br_z[s + k].real)
         i_sum += i_line
         phases.append(SupplyPhaseResult(f"L{k + 1}", nodes[k], Phasor.of(i_line), Phasor.of(v_ph), sup.real, sup.imag))
     vll = tuple(
@@ -287,70 +296,86 @@ def _three_phase_result(st: SolvedState, el: m.ThreePhaseSupply, s: int) -> Thre
     )
     pf, sense = _pf(total.real, total.imag)
     return ThreePhaseSupplyResult(el.id, el.kind, tuple(phases), vll, Phasor.of(i_sum), total.real, total.imag,
-                                  abs(total), pf, sense, loss)
+                                  math.hypot(total.real, total.imag), pf, sense, loss)
 
 
-def primitive_values(p: Primitives, x: np.ndarray, nl_current: np.ndarray):
-    """V across and I through every primitive, per category."""
+CATEGORIES = (ADMITTANCE, BRANCH, INJECTION, NONLINEAR, OPEN)
+
+
+class Layout:
+    """Every primitive in one array, kind after kind; depends on the structure only.
+
+    Voltages, currents, KCL sums and power totals are then a handful of numpy
+    calls on whole arrays instead of a few per primitive kind: that is most of
+    what result extraction costs on a small network.  The reference node (-1)
+    reads as the extra entry n of the extended voltage vector, and collects
+    KCL sums in an extra bin n that is dropped.
+    """
+
+    __slots__ = ("n", "a", "b", "bounds", "live", "kcl_index", "classes", "source_branch")
+
+    def __init__(self, p: Primitives, kinds: np.ndarray) -> None:
+        n = p.n
+        ends = [p.adm_a, p.br_a, p.inj_a, p.nl_a, p.open_a]
+        self.n = n
+        self.a = np.concatenate(ends)
+        self.b = np.concatenate([p.adm_b, p.br_b, p.inj_b, p.nl_b, p.open_b])
+        stops = np.cumsum([e.size for e in ends]).tolist()
+        self.bounds = dict(zip(CATEGORIES, zip([0, *stops[:-1]], stops)))
+        self.live = self.bounds[OPEN][0]  # open elements carry no current
+        a, b = self.a[: self.live], self.b[: self.live]
+        self.kcl_index = np.concatenate([np.where(a < 0, n, a), np.where(b < 0, n, b)])
+        owners = np.concatenate([p.adm_owner, p.br_owner, p.inj_owner, p.nl_owner])
+        self.classes = kinds[owners].astype(np.int64)
+        self.source_branch = np.flatnonzero(kinds[p.br_owner] == 0)
+
+    def split(self, values: np.ndarray) -> dict[int, np.ndarray]:
+        """Views of a per-primitive array, per primitive kind."""
+        return {cat: values[s:e] for cat, (s, e) in self.bounds.items()}
+
+
+def primitive_values(p: Primitives, layout: Layout, x: np.ndarray, nl_current: np.ndarray):
+    """V across and I through every primitive: (all voltages, all currents), in Layout order."""
     n = p.n
-
-    def port(a, b):
-        va = np.where(a >= 0, x[np.maximum(a, 0)], 0)
-        vb = np.where(b >= 0, x[np.maximum(b, 0)], 0)
-        return (va - vb).astype(p.dtype, copy=False)
-
-    volts = {
-        ADMITTANCE: port(p.adm_a, p.adm_b),
-        BRANCH: port(p.br_a, p.br_b),
-        INJECTION: port(p.inj_a, p.inj_b),
-        NONLINEAR: port(p.nl_a, p.nl_b),
-        OPEN: port(p.open_a, p.open_b),
-    }
-    amps = {
-        ADMITTANCE: p.adm_y * volts[ADMITTANCE],
-        BRANCH: x[n:].astype(p.dtype, copy=False),
-        INJECTION: p.inj_j,
-        NONLINEAR: nl_current.astype(p.dtype, copy=False),
-        OPEN: np.zeros(p.open_a.size, dtype=p.dtype),
-    }
+    xe = np.empty(n + 1, dtype=p.dtype)
+    xe[:n] = x[:n]
+    xe[n] = 0.0  # index -1, the reference
+    volts = xe[layout.a] - xe[layout.b]
+    s, e = layout.bounds[ADMITTANCE]
+    amps = np.concatenate([
+        p.adm_y * volts[s:e], x[n:], p.inj_j, nl_current.astype(p.dtype, copy=False),
+        np.zeros(p.open_a.size, dtype=p.dtype),
+    ])
     return volts, amps
 
 
-def kcl_residual(p: Primitives, amps) -> float:
+def kcl_residual(layout: Layout, amps: np.ndarray) -> float:
     """Largest |sum of element currents leaving a node| over non-reference nodes."""
-    n = p.n
-    total = np.zeros(n, dtype=p.dtype)
-    for cat, (a, b) in {
-        ADMITTANCE: (p.adm_a, p.adm_b),
-        BRANCH: (p.br_a, p.br_b),
-        INJECTION: (p.inj_a, p.inj_b),
-        NONLINEAR: (p.nl_a, p.nl_b),
-    }.items():
-        total += scatter_sum(a, amps[cat], n) - scatter_sum(b, amps[cat], n)
-    return float(np.max(np.abs(total), initial=0.0))
+    n, live = layout.n, amps[: layout.live]
+    w = np.concatenate([live, -live])
+    if np.iscomplexobj(w):
+        total = np.abs(np.bincount(layout.kcl_index, w.real, n + 1) + 1j * np.bincount(layout.kcl_index, w.imag, n + 1))
+    else:
+        total = np.abs(np.bincount(layout.kcl_index, w, n + 1))
+    return amax(total[:n])
 
 
-def power_totals(p: Primitives, kinds: np.ndarray, volts, amps) -> tuple[PowerTotals, float]:
-    """Totals by element class, and the power-balance residual |sum of absorbed S| (Tellegen)."""
-    sums = {"source": 0j, "load": 0j, "network": 0j, "cable": 0j}
-    owners = {
-        ADMITTANCE: p.adm_owner, BRANCH: p.br_owner, INJECTION: p.inj_owner, NONLINEAR: p.nl_owner,
-    }
-    for cat, own in owners.items():
-        if own.size == 0:
-            continue
-        s = volts[cat] * np.conj(amps[cat])
-        cls = kinds[own]
-        for name, code in (("source", 0), ("load", 1), ("network", 2), ("cable", 3)):
-            sel = cls == code
-            if sel.any():
-                sums[name] += complex(s[sel].sum())
-    src_branch = kinds[p.br_owner] == 0 if p.br_owner.size else np.zeros(0, bool)
-    internal = float(np.sum(np.abs(amps[BRANCH][src_branch]) ** 2 * np.real(p.br_z[src_branch])))
-    sup, load, cable = -sums["source"], sums["load"], sums["cable"]
-    net = sums["network"] + cable
+def power_totals(p: Primitives, layout: Layout, volts: np.ndarray, amps: np.ndarray):
+    """Totals by element class, the power-balance residual |sum of absorbed S| (Tellegen), and S per primitive."""
+    live = layout.live
+    s = volts[:live] * np.conj(amps[:live])
+    re = np.bincount(layout.classes, s.real, 4).tolist()
+    im = np.bincount(layout.classes, s.imag, 4).tolist() if np.iscomplexobj(s) else [0.0] * 4
+    source, load, network, cable = (complex(r, i) for r, i in zip(re, im))
+    br0 = layout.bounds[BRANCH][0]
+    src = layout.source_branch
+    i_src = amps[br0 + src] if src.size else np.zeros(0, dtype=p.dtype)
+    internal = float(np.sum(np.abs(i_src) ** 2 * p.br_z[src].real))
+    sup = -source
+    net = network + cable
     totals = PowerTotals(sup.real, sup.imag, load.real, load.imag, net.real, cable.real, net.imag, internal)
-    return totals, abs(sup - load - net)
+    r = sup - load - net
+    return totals, math.hypot(r.real, r.imag), s
 
 
 def kind_classes(elements) -> np.ndarray:

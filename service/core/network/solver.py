@@ -1,41 +1,48 @@
-"""solve(): the one entry point of the network solver.
+"""solve(): the one entry point of the network solver, and prepare() for repeated solves.
 
 Pipeline: expand (validate, map nodes, reduce to primitives) -> topology
 checks -> MNA assembly -> LU solve, or damped Newton when constant-current /
 constant-power loads are present -> results, Thevenin equivalents, and
 finiteness checks.  Everything is a pure function of its inputs.
+
+The first two steps depend on the network's structure and values only through
+validation, so :func:`prepare` does them once and returns a
+:class:`PreparedNetwork`; its :meth:`~PreparedNetwork.solve` runs the rest, and
+:meth:`~PreparedNetwork.replace` swaps in elements with new values (same type,
+same nodes) re-checking only those.  ``solve(net, opts)`` is exactly
+``prepare(net, opts).solve()``.
+
+Assembly and factorisation take the dense form for small networks and the
+sparse one otherwise (assemble.py); both run this same pipeline.
 """
 
 from __future__ import annotations
 
 import math
+import time
+from functools import lru_cache
 
 import numpy as np
 
 from . import model as m
-from .assemble import mna_coo, rhs_vector, to_csc
+from .assemble import DenseStamps, SparseSystem, amax, dense_fits, rhs_vector, system_for
 from .errors import (
     ConvergenceError,
+    DeadlineExceededError,
     InvalidValueError,
     LoadUndervoltageError,
     NonFiniteResultError,
     SingularNetworkError,
     VoltageCollapseError,
 )
-from .expand import expand
-from .linear import Factor
+from .expand import expand, reduce_some
 from .loads import max_transferable_power, upper_operating_voltage
 from .newton import port_voltage, solve_nonlinear
-from .primitives import Primitives
-from .results import (
-    Solution,
-    SolvedState,
-    kcl_residual,
-    kind_classes,
-    power_totals,
-    primitive_values,
-)
+from .nodes import NodeTable
+from .primitives import Primitives, with_values_of
+from .results import Layout, Solution, SolvedState, kcl_residual, kind_classes, power_totals, primitive_values
 from .thevenin import equivalents, port_values, thevenin_impedances
+from .topology import check_topology
 
 # A direct solve leaves KCL residuals around 1e-15 of the largest current; a
 # residual above this fraction means the factorisation lost all accuracy
@@ -56,6 +63,9 @@ def _check_options(o: m.SolveOptions) -> None:
         bad.append("load_guard_voltage_pu must be in (0, 1]")
     if o.on_load_undervoltage not in ("error", "constant_impedance"):
         bad.append('on_load_undervoltage must be "error" or "constant_impedance"')
+    d = o.deadline_s
+    if d is not None and not (isinstance(d, (int, float)) and not isinstance(d, bool) and math.isfinite(d) and d >= 0):
+        bad.append("deadline_s must be None or a finite number of seconds >= 0")
     if bad:
         raise InvalidValueError("; ".join(bad), how_to_fix="correct the solver options")
 
@@ -68,39 +78,150 @@ def solve(network: m.Network, options: m.SolveOptions | None = None) -> Solution
     finiteness before it is returned, so an unusable answer is a
     NonFiniteResultError or SingularNetworkError, never a stray warning.
     """
+    started = time.monotonic()
     with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
-        return _solve(network, options or m.SolveOptions())
+        return _prepare(network, options or m.SolveOptions())._solve_from(started)
 
 
-def _solve(network: m.Network, options: m.SolveOptions) -> Solution:
+def prepare(network: m.Network, options: m.SolveOptions | None = None) -> PreparedNetwork:
+    """Validate a network and check its topology once, for one or more solves.
+
+    Raises what solve() raises before any matrix is factorised (invalid
+    values or nodes, floating parts, source loops, bad options).
+    """
+    with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
+        return _prepare(network, options or m.SolveOptions())
+
+
+class _Structure:
+    """What every PreparedNetwork of one structure shares: all that depends on the topology only."""
+
+    __slots__ = ("table", "positions", "ids", "pairs", "layout", "stamps")
+
+    def __init__(self, prims: Primitives, table: NodeTable, positions, ids, pairs, kinds) -> None:
+        self.table = table
+        self.positions = positions
+        self.ids = ids
+        self.pairs = pairs
+        self.layout = Layout(prims, kinds)
+        self.stamps = DenseStamps(prims) if dense_fits(prims) else None
+
+
+class PreparedNetwork:
+    """A validated network whose structure is checked; solve it, or replace elements and solve again.
+
+    Made by :func:`prepare`.  Immutable: :meth:`replace` returns a new one.
+    """
+
+    __slots__ = ("network", "options", "_prims", "_s", "_system")
+
+    def __init__(self, network: m.Network, options: m.SolveOptions, prims: Primitives, structure: _Structure,
+                 system=None) -> None:
+        self.network = network
+        self.options = options
+        self._prims = prims
+        self._s = structure
+        self._system = system  # the assembled system, kept once built (the sparse one is built for topology)
+
+    def solve(self) -> Solution:
+        """The same Solution (or error) as solve(self.network, self.options)."""
+        started = time.monotonic()
+        with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
+            return self._solve_from(started)
+
+    def replace(self, *elements: m.Element) -> PreparedNetwork:
+        """This network with elements swapped for new ones of the same id.
+
+        A replacement of the same type on the same nodes only has its values
+        checked again (the same checks and errors as solve()); the topology
+        checks and the node and stamp layout are reused.  Anything else (new
+        type or nodes, a resistance becoming exactly 0, a switch opening, a
+        load changing between linear and nonlinear models, any ResistorArray)
+        prepares the new network from scratch, so the result is always that of
+        solve() on the new network.  Raises KeyError for an id that is not in
+        the network.
+        """
+        with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
+            return self._replace(elements)
+
+    def _replace(self, elements) -> PreparedNetwork:
+        s, old = self._s, self.network.elements
+        new = list(old)
+        changed: dict[int, None] = {}
+        same = True
+        for e in elements:
+            pos = s.positions.get(getattr(e, "id", None))
+            if pos is None:
+                raise KeyError(f"no element {getattr(e, 'id', None)!r} in this network")
+            was = old[pos]
+            same = same and type(e) is type(was) and not isinstance(e, m.ResistorArray) and all(
+                getattr(e, t) == getattr(was, t) for t in was.terminals)
+            new[pos] = e
+            changed[pos] = None
+        network = m.Network(elements=tuple(new), frequency_hz=self.network.frequency_hz,
+                            reference_node=self.network.reference_node)
+        if same and changed:
+            owners = np.fromiter(changed, dtype=np.int64, count=len(changed))
+            guard = float(self.options.load_guard_voltage_pu)
+            sub = reduce_some(network, owners.tolist(), s.table, s.positions, guard)
+            prims = with_values_of(self._prims, sub, owners)
+            if prims is not None:
+                return PreparedNetwork(network, self.options, prims, s)
+        elif same:
+            return self
+        return _prepare(network, self.options)
+
+    def _solve_from(self, started: float) -> Solution:
+        system = self._system
+        if system is None:
+            system = self._system = system_for(self._prims, self._s.stamps)
+        return _run(self, system, started)
+
+
+def _prepare(network: m.Network, options: m.SolveOptions) -> PreparedNetwork:
     _check_options(options)
-    from .topology import check_topology
-
     prims, table, positions = expand(network, float(options.load_guard_voltage_pu))
     ids = [e.id for e in network.elements]
-    size = prims.n + prims.m
-    coo = mna_coo(prims)
-    matrix = to_csc(*coo, size)
-    check_topology(prims, table, ids, positions, matrix)
+    structure_system = None
+    if dense_fits(prims):
+        check_topology(prims, table, ids, positions)
+    else:  # the topology check reads the sparse pattern; keep the system for the first solve
+        structure_system = SparseSystem(prims)
+        check_topology(prims, table, ids, positions, structure_system.matrix)
     pairs = [(table.index(a), table.index(b)) for a, b in options.thevenin_between]
+    structure = _Structure(prims, table, positions, ids, pairs, kind_classes(network.elements))
+    return PreparedNetwork(network, options, prims, structure, structure_system)
 
+
+def _finite_magnitude(a: np.ndarray) -> bool:
+    """Every |a| is finite (NaN and inf fail; so does a finite complex value whose magnitude overflows)."""
+    return math.isfinite(amax(np.abs(a)))
+
+
+def _run(prep: PreparedNetwork, system, started: float) -> Solution:
+    network, options, prims, s = prep.network, prep.options, prep._prims, prep._s
+    ids, positions, table, pairs = s.ids, s.positions, s.table, s.pairs
+    size = prims.n + prims.m
     rhs = rhs_vector(prims)
     factor = None
     guarded = np.zeros(prims.nl_a.size, dtype=bool)
     if prims.nl_a.size == 0:
-        factor = Factor(matrix)
+        factor = system.factor(system.matrix)
         x = factor.solve(rhs)
         nl_current = np.zeros(0, dtype=prims.dtype)
         solves, converged, mismatch = 1, True, None
     else:
+        deadline = None if options.deadline_s is None else started + options.deadline_s
         nr = solve_nonlinear(
-            prims, coo, rhs, options.max_iterations, options.tolerance_a, options.relative_tolerance
+            prims, system, rhs, options.max_iterations, options.tolerance_a, options.relative_tolerance, deadline
         )
         x, nl_current, guarded = nr.x, nr.load_current, nr.guarded
         solves, converged, mismatch = nr.solves, nr.converged, nr.mismatch_a
+        if nr.out_of_time:
+            _raise_out_of_time(prims, nr, ids, positions, options.deadline_s, time.monotonic() - started)
         if not converged or (guarded.any() and options.on_load_undervoltage == "error"):
-            _raise_load_failure(prims, coo, rhs, nr, ids, positions, table)
-    if not np.all(np.isfinite(x)):
+            _raise_load_failure(prims, system, rhs, nr, ids, positions, table)
+    if not math.isfinite(amax(np.abs(x))):
         raise NonFiniteResultError(
             "the network equations have no finite solution in double precision",
             how_to_fix="check for extreme element values (e.g. 1e-300 ohm or 1e300 V), ideal elements "
@@ -108,18 +229,20 @@ def _solve(network: m.Network, options: m.SolveOptions) -> Solution:
         )
 
     if factor is not None and _may_cancel(prims):
-        _check_conditioning(factor, matrix, size, prims.dtype)
-    volts, amps = primitive_values(prims, x, nl_current)
-    if not all(np.all(np.isfinite(a)) for a in (*volts.values(), *amps.values())):
+        _check_conditioning(factor, system.matrix, size, prims.dtype)
+    layout = s.layout
+    volts, amps = primitive_values(prims, layout, x, nl_current)
+    if not (_finite_magnitude(volts) and _finite_magnitude(amps)):
         raise NonFiniteResultError(
             "element currents overflow double precision",
             how_to_fix="check for extreme element values (e.g. 1e-300 ohm or 1e300 V)",
         )
-    kcl = kcl_residual(prims, amps)
+    kcl = kcl_residual(layout, amps)
+    ax = np.abs(x)
     scale = max(
-        float(np.max(np.abs(prims.adm_y), initial=0.0)) * float(np.max(np.abs(x[: prims.n]), initial=0.0)),
-        float(np.max(np.abs(x[prims.n:]), initial=0.0)),
-        float(np.max(np.abs(prims.inj_j), initial=0.0)),
+        amax(np.abs(prims.adm_y)) * amax(ax[: prims.n]),
+        amax(ax[prims.n:]),
+        amax(np.abs(prims.inj_j)),
         1e-30,
     )
     if kcl > ILL_CONDITIONED * scale + options.tolerance_a * 10:
@@ -128,12 +251,13 @@ def _solve(network: m.Network, options: m.SolveOptions) -> Solution:
             how_to_fix="look for an LC pair in near-exact resonance or values spanning too many "
             "orders of magnitude",
         )
-    totals, balance = power_totals(prims, kind_classes(network.elements), volts, amps)
+    totals, balance, powers = power_totals(prims, layout, volts, amps)
 
     thevenin = ()
     if pairs:
         if factor is None:  # nonlinear loads: use their operating-point impedance
-            factor = Factor(_operating_point_matrix(prims, coo, x, nl_current))
+            factor = system.factor(system.with_admittance(_operating_point_admittance(prims, x, nl_current)),
+                                   overwrite=True)
         zth = thevenin_impedances(factor, size, pairs, prims.dtype)
         voc = port_values(x, pairs)
         thevenin = equivalents(options.thevenin_between, voc, zth)
@@ -141,13 +265,13 @@ def _solve(network: m.Network, options: m.SolveOptions) -> Solution:
     numbers = [kcl, balance, mismatch if mismatch is not None else 0.0, *vars_of(totals)]
     for t in thevenin:
         numbers += [t.resistance_ohm, t.reactance_ohm, t.open_circuit_voltage.magnitude]
-    if not (all(math.isfinite(v) for v in numbers) and np.all(np.isfinite(nl_current))):
+    if not (all(math.isfinite(v) for v in numbers) and _finite_magnitude(nl_current) and _finite_magnitude(powers)):
         raise NonFiniteResultError(
             "the solution contains non-finite values",
             how_to_fix="check for extreme element values (e.g. 1e-300 ohm or 1e300 V)",
         )
     guarded_ids = tuple(ids[o] for o in prims.nl_owner[guarded])
-    state = SolvedState(network, prims, table, x, volts, amps, positions, guarded)
+    state = SolvedState(network, prims, table, x, layout.split(volts), layout.split(amps), positions, guarded)
     return Solution(
         frequency_hz=float(network.frequency_hz or 0.0),
         reference_node=network.reference_node,
@@ -180,17 +304,24 @@ def _may_cancel(prims: Primitives) -> bool:
     if prims.dtype is not np.complex128:
         return False
     im = np.concatenate([prims.adm_y.imag, -prims.br_z.imag])
-    return bool(np.any(im > 0) and np.any(im < 0))
+    return bool(np.count_nonzero(im > 0) and np.count_nonzero(im < 0))
 
 
-def _check_conditioning(factor: Factor, matrix, size: int, dtype) -> None:
+@lru_cache(maxsize=64)
+def _probe(size: int, dtype) -> np.ndarray:
+    r = np.random.default_rng(12345).standard_normal(size).astype(dtype)
+    r.flags.writeable = False
+    return r
+
+
+def _check_conditioning(factor, matrix, size: int, dtype) -> None:
     """Lower bound on cond_inf(A) from one solve with a fixed pseudo-random right-hand side.
 
     ||A^-1 r|| / ||r|| <= ||A^-1||, so a large ratio proves near-singularity;
     a random r has a component along the near-null direction with probability
     one, so an exact resonance is not missed.  Costs one triangular solve.
     """
-    r = np.random.default_rng(12345).standard_normal(size).astype(dtype)
+    r = _probe(size, dtype)
     z = factor.solve(r)
     norm_a = float(abs(matrix).sum(axis=1).max())
     bound = float(np.max(np.abs(z))) / float(np.max(np.abs(r))) * norm_a
@@ -215,12 +346,20 @@ def _operating_point_admittance(prims: Primitives, x, nl_current) -> np.ndarray:
     return y.astype(prims.dtype) if prims.dtype is np.complex128 else y.real
 
 
-def _operating_point_matrix(prims: Primitives, coo, x, nl_current):
-    y = _operating_point_admittance(prims, x, nl_current)
-    return to_csc(*mna_coo(prims, prims.nl_a, prims.nl_b, y), prims.n + prims.m)
+def _raise_out_of_time(prims: Primitives, nr, ids, positions, deadline_s: float, elapsed_s: float) -> None:
+    loads = [ids[o] for o in prims.nl_owner]
+    raise DeadlineExceededError(
+        f"the load-flow iteration was stopped after {nr.solves - 1} Newton step(s): its time budget of "
+        f"{deadline_s:g} s (deadline_s) ran out before it converged (largest KCL mismatch {nr.mismatch_a:.3g} A)",
+        how_to_fix="allow more time (a larger deadline_s, or none), or solve a smaller network",
+        element_ids=loads,
+        element_positions=positions,
+        data={"iterations": nr.solves, "mismatch_a": nr.mismatch_a, "deadline_s": deadline_s,
+              "elapsed_s": elapsed_s},
+    )
 
 
-def _raise_load_failure(prims: Primitives, coo, rhs, nr, ids, positions, table) -> None:
+def _raise_load_failure(prims: Primitives, system, rhs, nr, ids, positions, table) -> None:
     """Explain a failed nonlinear solve with each load's Thevenin maximum power.
 
     Every nonlinear load is frozen at the impedance it has at the last
@@ -234,7 +373,7 @@ def _raise_load_failure(prims: Primitives, coo, rhs, nr, ids, positions, table) 
     """
     size = prims.n + prims.m
     y = _operating_point_admittance(prims, nr.x, nr.load_current)
-    factor = Factor(_operating_point_matrix(prims, coo, nr.x, nr.load_current))
+    factor = system.factor(system.with_admittance(y), overwrite=True)
     x_op = factor.solve(rhs)
     pairs = list(zip(prims.nl_a.tolist(), prims.nl_b.tolist()))
     z_in = thevenin_impedances(factor, size, pairs, prims.dtype)
