@@ -91,6 +91,13 @@ TEMPERATURE_RISE = QuantityKind("temperature rise", "K", "80 K", minimum=0.0, ex
                                 difference=True)
 RESIDUAL_CURRENT = QuantityKind("rated residual current", "A", "30 mA", minimum=0.0, exclusive_minimum=True, maximum=10.0)
 PHASE_ANGLE = QuantityKind("phase angle", "deg", "-30 deg", minimum=-360.0, maximum=360.0)
+# Conductor sizing inputs.
+LENGTH_OR_ZERO = QuantityKind("length (0 for none)", "m", "0.3 m", minimum=0.0, maximum=1.0e6)
+SOIL_THERMAL_RESISTIVITY = QuantityKind("soil thermal resistivity", "K*m/W", "1.5 K*m/W", minimum=0.0,
+                                        exclusive_minimum=True, maximum=100.0)
+LET_THROUGH_ENERGY = QuantityKind("let-through energy I²t", "A^2*s", "25000 A^2*s", minimum=0.0,
+                                  exclusive_minimum=True, maximum=1.0e12)
+DISCONNECTION_TIME = QuantityKind("disconnection time", "s", "0.4 s", minimum=0.0, exclusive_minimum=True, maximum=5.0)
 
 _NUMBER_AND_UNIT = re.compile(
     r"^\s*(?P<number>[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(?P<unit>.*?)\s*$"

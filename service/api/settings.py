@@ -7,6 +7,7 @@ from dataclasses import dataclass, fields
 from typing import Mapping
 
 PREFIX = "AMPLINE_"
+_BOOLEANS = {"true": True, "1": True, "yes": True, "on": True, "false": False, "0": False, "no": False, "off": False}
 
 
 @dataclass(frozen=True, slots=True)
@@ -36,6 +37,10 @@ class Settings:
     max_network_nodes: int = 200_000
     """Most distinct nodes one network may have, the reference node included.
     Past it the request gets 422 before anything is solved."""
+    metrics_enabled: bool = True
+    """Serve GET /metrics (Prometheus text format: request counts and latencies by route and status, the
+    network solver's iterations and network sizes). ``false`` leaves the route out (404). Accepts
+    true/false, 1/0, yes/no, on/off."""
 
     def __post_init__(self) -> None:
         if self.log_format not in ("json", "console"):
@@ -59,7 +64,12 @@ class Settings:
             raw = env.get(PREFIX + f.name.upper())
             if raw is None:
                 continue
-            if f.type == "int":
+            if f.type == "bool":
+                flag = _BOOLEANS.get(raw.strip().lower())
+                if flag is None:
+                    raise ValueError(f"{PREFIX}{f.name.upper()} must be true or false, got {raw!r}")
+                values[f.name] = flag
+            elif f.type == "int":
                 try:
                     values[f.name] = int(raw)
                 except ValueError:

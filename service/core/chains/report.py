@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+from ..steps import Step  # noqa: F401  (re-exported: results carry their steps)
+
 from service.core.protection import DisconnectionTime, EarthFaultCheck
 
 from .ratings import LeadRating
@@ -93,15 +95,6 @@ class ChainTotals:
     loss_kwh_per_year: float | None
     loss_cost_per_year: float | None
     delivered_kwh_per_year: float | None
-
-
-@dataclass(frozen=True, slots=True)
-class Step:
-    name: str
-    formula: str
-    value: float
-    unit: str
-    source: str | None = None
 
 
 @dataclass(frozen=True, slots=True)

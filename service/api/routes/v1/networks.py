@@ -22,13 +22,13 @@ from litestar.openapi.spec import Example
 from litestar.params import Body
 
 from service.api.contract import request_examples
+from service.api.metrics import observe_network_solve
 from service.api.network_input import CableUse, ParsedNetwork, element_count, explain, terminals, to_network
 from service.api.problems import error_responses
 from service.api.routes.v1.conductors import source_refs
 from service.api.schemas.v1 import networks as s
 from service.api.schemas.v1.common import GENERAL_CAUTIONS, CalculationNotes, Step
 from service.api.settings import Settings
-from service.core.errors import Blame, CalcError
 from service.core.network import (
     ArrayElementResult,
     NetworkError,
@@ -57,12 +57,6 @@ def solve_network(req: s.NetworkSolveRequest, settings: Settings) -> s.NetworkSo
             return _result(req, parsed, sol)  # element records are built lazily, so inside the guard too
     except NetworkError as err:
         raise explain(err, req) from err
-    except OverflowError as exc:  # Python float/cmath arithmetic in the core out of range on extreme values
-        raise CalcError(
-            code="non-finite-result", detail="the network's values go beyond the range of double precision on the way to a solution",
-            how_to_fix="check for extreme element values (e.g. 1e12 ohm next to 1e-12 ohm, or 1e6 A into 1e12 ohm)",
-            blames=(Blame(("elements",), "values beyond what double precision can carry"),),
-        ) from exc
 
 
 # --------------------------------------------------------------------------- response
@@ -393,8 +387,13 @@ def network_route_handlers(settings: Settings) -> list[HTTPRouteHandler]:
     async def solve_network_route(
         data: Annotated[s.NetworkSolveRequest, Body(media_type=RequestEncodingType.JSON, examples=_REQUEST_EXAMPLES)],
     ) -> s.NetworkSolveResult:
-        if element_count(data) < IN_LOOP_ELEMENTS:
-            return solve_network(data, settings)
-        return await sync_to_thread(solve_network, data, settings)
+        elements = element_count(data)
+        if elements < IN_LOOP_ELEMENTS:
+            result = solve_network(data, settings)
+        else:
+            result = await sync_to_thread(solve_network, data, settings)
+        if settings.metrics_enabled:  # here, not in solve_network, which also computes the contract's examples
+            observe_network_solve(result.analysis, result.iterations, result.node_count, elements)
+        return result
 
     return [solve_network_route]

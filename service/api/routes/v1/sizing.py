@@ -1,0 +1,166 @@
+"""Conductor sizing endpoints: POST /v1/conductors/size and POST /v1/conductors/verify (IEC 60364)."""
+
+from __future__ import annotations
+
+from typing import Annotated
+
+import msgspec
+from litestar import post
+from litestar.enums import RequestEncodingType
+from litestar.openapi.datastructures import ResponseSpec
+from litestar.openapi.spec import Example
+from litestar.params import Body
+
+from service.api.contract import request_examples
+from service.api.problems import error_responses
+from service.api.routes.v1.conductors import source_refs
+from service.api.schemas.v1 import sizing as s
+from service.api.schemas.v1.common import GENERAL_CAUTIONS, CalculationNotes, Step
+from service.api.sizing_input import to_sizing_input
+from service.core import sizing as core
+
+SIZE_ID = "sizeConductor"
+VERIFY_ID = "verifyConductor"
+
+
+def _size_out(ev: core.SizeEvaluation) -> s.SizeOut:
+    return s.SizeOut(
+        size_label=ev.size_label, area_m2=ev.area_m2, protective_conductor_size_label=ev.pe_size_label,
+        protective_conductor_area_m2=ev.pe_area_m2, tabulated_capacity_a=ev.tabulated_capacity_a,
+        capacity_basis=ev.capacity_basis, iz_a=ev.iz_a, voltage_drop_v=ev.voltage_drop_v,
+        voltage_drop_pct=ev.voltage_drop_pct, total_voltage_drop_pct=ev.total_drop_pct, zs_ohm=ev.zs_ohm,
+        earth_fault_current_a=ev.earth_fault_current_a, r1_ohm=ev.r1_ohm, r2_ohm=ev.r2_ohm,
+        metal_mass_kg=ev.metal_mass_kg, passes=ev.passes, failing_checks=list(ev.failing),
+        checks=[s.CheckOut(name=c.name, passes=c.passes, value=c.value, limit=c.limit, unit=c.unit,
+                           condition=c.condition, source=c.source, detail=c.detail) for c in ev.checks],
+    )
+
+
+def sizing_out(r: core.SizingResult) -> s.SizingResult:
+    d = r.device
+    return s.SizingResult(
+        verdict=r.verdict, regime=r.regime, design_current_a=r.design_current_a,
+        device=s.DeviceOut(type=d.device_type, rated_current_a=d.rated_current_a, chosen_by_service=d.chosen_by_service,
+                           label=d.label, conventional_current_a=d.conventional_current_a,
+                           conventional_multiple=d.conventional_multiple, conventional_source=d.conventional_source),
+        factors=[s.FactorOut(name=f.name, value=f.value, basis=f.basis, source=f.source) for f in r.factors],
+        factor_product=r.factor_product, required_tabulated_capacity_a=r.required_tabulated_a,
+        voltage_drop_limit_pct=r.drop_limit_pct, voltage_drop_limit_source=r.drop_limit_source,
+        available_voltage_drop_pct=r.available_drop_pct, disconnection_time_s=r.disconnection_time_s,
+        disconnection_time_source=r.disconnection_source,
+        chosen=None if r.chosen is None else _size_out(r.chosen), governing_check=r.governing_check,
+        rejected=[_size_out(ev) for ev in r.rejected], binding_checks=list(r.binding_checks), ways_out=list(r.ways_out),
+        notes=CalculationNotes(
+            steps=[Step(name=st.name, formula=st.formula, value=st.value, unit=st.unit, source=st.source) for st in r.steps],
+            assumptions=list(r.assumptions),
+            sources=source_refs(*r.table_ids),
+            cautions=[*GENERAL_CAUTIONS, *r.cautions],
+        ),
+    )
+
+
+def compute_size(data: s.SizingRequest) -> s.SizingResult:
+    spec, _ = to_sizing_input(data)
+    return sizing_out(core.size_conductor(spec))
+
+
+def compute_verify(data: s.VerifyRequest) -> s.SizingResult:
+    spec, area = to_sizing_input(data)
+    return sizing_out(core.verify_conductor(spec, area))
+
+
+_SIZE_EXAMPLES = {
+    "Village hall refit: 6 kW kitchen water heater, 20 m in an insulated wall, 35 °C": s.SizingRequest(
+        load=s.LoadIn(power="6 kW"),
+        circuit=s.CircuitIn(length="20 m", method="A1", cable="single_core", ambient_temperature="35 degC"),
+        protection=s.ProtectionIn(device=s.DeviceIn(type="B", rated_current="32 A")),
+        supply=s.SupplyIn(ze="0.35 ohm", prospective_fault_current="3 kA")),
+    "Workshop sub-main: 22 kW three-phase, 60 m clipped, 3 circuits, XLPE, gG chosen by the service": s.SizingRequest(
+        load=s.LoadIn(phases="three", power="22 kW", power_factor=0.85),
+        circuit=s.CircuitIn(length="60 m", method="C", insulation="xlpe_epr_90",
+                            grouping=s.GroupingIn(circuits=3, arrangement="single_layer_wall")),
+        protection=s.ProtectionIn(device=s.DeviceIn(type="gG"), circuit_kind="distribution"),
+        supply=s.SupplyIn(ze="0.2 ohm", prospective_fault_current="8 kA")),
+    "Farm building feed: 40 A single-phase, 110 m buried in ducts, TT with a 100 mA RCD": s.SizingRequest(
+        load=s.LoadIn(design_current="40 A", power_factor=0.95),
+        circuit=s.CircuitIn(length="110 m", method="D1", ambient_temperature="15 degC",
+                            soil_thermal_resistivity="1.5 K*m/W"),
+        protection=s.ProtectionIn(device=s.DeviceIn(type="C", rated_current="40 A"),
+                                  rcd=s.RcdIn(rated_residual_current="100 mA")),
+        supply=s.SupplyIn(earthing="TT", ze="21 ohm", electrode_resistance="60 ohm"),
+        limits=s.LimitsIn(upstream_drop=1.0)),
+}
+_VERIFY_EXAMPLES = {
+    "Café kitchen circuit: 2.5 mm² on a 20 A type B, 32 m, grouped with 3 others": s.VerifyRequest(
+        load=s.LoadIn(design_current="18 A"),
+        circuit=s.VerifyCircuitIn(length="32 m", method="C", size="2.5 mm^2",
+                                  grouping=s.GroupingIn(circuits=4, arrangement="bunched")),
+        protection=s.ProtectionIn(device=s.DeviceIn(type="B", rated_current="20 A"), circuit_kind="socket_outlets",
+                                  rcd=s.RcdIn(rated_residual_current="30 mA")),
+        supply=s.SupplyIn(ze="0.35 ohm")),
+    "Workshop sub-main check: 16 mm² XLPE on a 63 A gG, 60 m, 1.5 % used upstream": s.VerifyRequest(
+        load=s.LoadIn(phases="three", design_current="45 A", power_factor=0.85),
+        circuit=s.VerifyCircuitIn(length="60 m", method="C", insulation="xlpe_epr_90", size="16 mm^2"),
+        protection=s.ProtectionIn(device=s.DeviceIn(type="gG", rated_current="63 A"), circuit_kind="distribution"),
+        supply=s.SupplyIn(ze="0.2 ohm", prospective_fault_current="8 kA"),
+        limits=s.LimitsIn(upstream_drop=1.5)),
+}
+
+_DESCRIPTION_COMMON = (
+    " Steps: design current Ib; device rating In (given, or the smallest standard rating >= Ib); correction factors "
+    "for ambient (IEC 60364-5-52 Tables B.52.14/B.52.15), grouping (B.52.17 to B.52.19), thermal insulation and soil "
+    "(B.52.16); the tabulated capacity (Annex B, Tables B.52.2 to B.52.5, B.52.10, B.52.12); overload coordination "
+    "Ib <= In <= Iz and I2 <= 1.45 Iz (IEC 60364-4-43 433.1); the voltage drop and the earth-fault loop impedance "
+    "Zs = Ze + R1 + R2 from the network solver, against Table G.52.1 and the device's maximum Zs for the disconnection "
+    "time of IEC 60364-4-41; the adiabatic check of the protective and line conductors. A design that does not comply "
+    "is a verdict in a 200 answer; a 422 means the inputs contradict each other or admit no answer."
+)
+
+
+def _responses(compute, examples) -> dict:
+    return {
+        **error_responses(422),
+        200: ResponseSpec(
+            data_container=s.SizingResult, generate_examples=False,
+            description="The verdict, every check with its numbers and source, and the notes.",
+            examples=[Example(summary=name, value=msgspec.to_builtins(compute(req))) for name, req in examples.items()],
+        ),
+    }
+
+
+@post(
+    "/conductors/size",
+    operation_id=SIZE_ID,
+    summary="Choose the conductor size for a circuit (IEC 60364)",
+    description=("The smallest conductor size that passes every check, the check that governed it, and every smaller "
+                 "size with the check it fails; when no tabulated size passes, the binding checks and ways out."
+                 + _DESCRIPTION_COMMON),
+    status_code=200,
+    responses=_responses(compute_size, _SIZE_EXAMPLES),
+    tags=["sizing"],
+)
+async def size_conductor_route(
+    data: Annotated[s.SizingRequest, Body(media_type=RequestEncodingType.JSON,
+                                          examples=request_examples(SIZE_ID, _SIZE_EXAMPLES))],
+) -> s.SizingResult:
+    return compute_size(data)
+
+
+@post(
+    "/conductors/verify",
+    operation_id=VERIFY_ID,
+    summary="Verify a chosen conductor size and device (IEC 60364)",
+    description=("Every check on the size given (and the device given, or the one the service picks), each passing or "
+                 "failing with its numbers, and the overall verdict." + _DESCRIPTION_COMMON),
+    status_code=200,
+    responses=_responses(compute_verify, _VERIFY_EXAMPLES),
+    tags=["sizing"],
+)
+async def verify_conductor_route(
+    data: Annotated[s.VerifyRequest, Body(media_type=RequestEncodingType.JSON,
+                                          examples=request_examples(VERIFY_ID, _VERIFY_EXAMPLES))],
+) -> s.SizingResult:
+    return compute_verify(data)
+
+
+sizing_route_handlers = [size_conductor_route, verify_conductor_route]

@@ -1,0 +1,38 @@
+"""Conductor sizing and verification: the smallest compliant size, or every check on a chosen one.
+
+A regime (regime.py) supplies a standard's tables and rules; IEC 60364 is the
+first.  Sizing and verification share one check pipeline (checks.py); voltage
+drop and earth-fault loop impedance come from the network solver (circuit.py).
+Pure: SI floats in, frozen results out; a design that does not comply is a
+verdict, a CalcError means no answer exists.
+"""
+
+from .checks import CHECK_ORDER
+from .engine import design_current, size_conductor, verify_conductor
+from .model import (
+    ARRANGEMENTS,
+    METHODS,
+    SPACINGS,
+    Check,
+    CircuitSpec,
+    Device,
+    Factor,
+    LimitsSpec,
+    LoadSpec,
+    ProtectionSpec,
+    ProtectiveConductorSpec,
+    SizeEvaluation,
+    SizingInput,
+    SizingResult,
+    Step,
+    SupplySpec,
+)
+from .regime import Iec60364Regime, Regime, iec60364
+from .tables import SizingTables, default_sizing_tables
+
+__all__ = [
+    "ARRANGEMENTS", "CHECK_ORDER", "METHODS", "SPACINGS", "Check", "CircuitSpec", "Device", "Factor",
+    "Iec60364Regime", "LimitsSpec", "LoadSpec", "ProtectionSpec", "ProtectiveConductorSpec", "Regime",
+    "SizeEvaluation", "SizingInput", "SizingResult", "SizingTables", "Step", "SupplySpec", "default_sizing_tables",
+    "design_current", "iec60364", "size_conductor", "verify_conductor",
+]
