@@ -9,7 +9,7 @@ VENV   := .venv
 PY     := $(VENV)/bin/python
 PIP    := $(PY) -m pip --disable-pip-version-check
 
-.PHONY: run test install install-test system-test-deps contract lock bench clean
+.PHONY: run test install install-test system-test-deps system-deploy-deps contract lock bench load soak startup clean
 
 $(VENV)/bin/python:
 	$(PYTHON) -m venv $(VENV)
@@ -24,7 +24,7 @@ $(VENV)/.test-installed: requirements/test.lock | $(VENV)/bin/python
 
 install: $(VENV)/.run-installed
 
-install-test: $(VENV)/.test-installed system-test-deps
+install-test: $(VENV)/.test-installed system-test-deps system-deploy-deps
 
 # ngspice is the independent circuit oracle of tests/reference (Debian package).
 system-test-deps:
@@ -32,6 +32,13 @@ system-test-deps:
 	  echo "installing ngspice (Debian package) for the reference tests"; \
 	  SUDO=$$( [ "$$(id -u)" = 0 ] || echo sudo ); \
 	  $$SUDO apt-get update -qq && DEBIAN_FRONTEND=noninteractive $$SUDO apt-get install -y -qq ngspice >/dev/null; }
+
+# docker-compose (Debian package) checks deploy/compose.yaml against the Compose schema; no engine needed.
+system-deploy-deps:
+	@command -v docker-compose >/dev/null 2>&1 || { \
+	  echo "installing docker-compose (Debian package) for the compose-file check"; \
+	  SUDO=$$( [ "$$(id -u)" = 0 ] || echo sudo ); \
+	  $$SUDO apt-get update -qq && DEBIAN_FRONTEND=noninteractive $$SUDO apt-get install -y -qq --no-install-recommends docker-compose >/dev/null; }
 
 run: install
 	$(PY) -m service
@@ -51,6 +58,16 @@ lock: install-test
 
 bench: install-test
 	$(PY) load_tests/bench_network.py
+
+# Load tests of a real server on 127.0.0.1 (load_tests/load.py; figures in docs/performance.md).
+load: $(VENV)/.test-installed
+	$(PY) load_tests/load.py run
+
+soak: $(VENV)/.test-installed
+	$(PY) load_tests/load.py soak
+
+startup: $(VENV)/.test-installed
+	$(PY) load_tests/startup.py
 
 clean:
 	rm -rf $(VENV) .pytest_cache .hypothesis

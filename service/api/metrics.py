@@ -7,7 +7,7 @@ core knows nothing of Prometheus.
 
 The metric objects live in prometheus_client's default registry, one per process: with ``AMPLINE_WORKERS``
 above 1, a scrape of ``/metrics`` describes the worker process that answered it.  Run one worker per
-container or pod and scrape each one (see deploy/README-scaling.md).
+container or pod and scrape each one (see README.md, "Scaling out").
 """
 
 from __future__ import annotations
