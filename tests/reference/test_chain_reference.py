@@ -117,6 +117,6 @@ def test_greatest_length_meets_the_drop_limit_exactly():
     limit = analyse_chain(chain).length_limits[0]
     assert limit.governed_by in ("voltage drop", "disconnection")
     # At the drop-limited length (conductors at 60 °C, conservative) the drop is the limit.
-    from service.core.chains.lengths import _drop_pct
+    from service.core.chains.lengths import _DropProbe
 
-    assert _drop_pct(chain, chain.leads[0], limit.by_voltage_drop_m) == pytest.approx(4.0, abs=0.01)
+    assert _DropProbe(chain, chain.leads[0])(limit.by_voltage_drop_m) == pytest.approx(4.0, abs=0.01)

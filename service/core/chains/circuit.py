@@ -58,7 +58,9 @@ def _lead_runs(prefix_line: str, prefix_return: str, leads: tuple[Lead, ...], re
     return runs
 
 
-def chain_network(chain: Chain, temperatures_c: tuple[float, ...]) -> tuple[Network, SolveOptions]:
+def chain_network(chain: Chain, temperatures_c: tuple[float, ...],
+                  with_fault_loops: bool = True) -> tuple[Network, SolveOptions]:
+    """The chain as one network: the load flow, and (unless left out) the two fault loops beside it."""
     supply, leads = chain.supply, chain.leads
     n = len(leads)
     elements: list = [
@@ -73,6 +75,8 @@ def chain_network(chain: Chain, temperatures_c: tuple[float, ...]) -> tuple[Netw
         elements.append(Load(appliance_id(j), outlet_node(a.outlet), "0", a.rated_power_w, a.rated_voltage_v,
                              a.power_factor, a.leading, a.model))
     pairs = []
+    if not with_fault_loops:
+        return Network(elements=tuple(elements), frequency_hz=supply.frequency_hz), SolveOptions()
     # Line-neutral loop: EMF between FN0 and the reference, neutral conductors back from the reference.
     elements.append(VoltageSource("loop-ln", "FN0", "0", supply.nominal_voltage_v,
                                   internal_resistance_ohm=supply.line_neutral.resistance_ohm,

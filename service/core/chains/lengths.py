@@ -15,28 +15,40 @@ from dataclasses import replace
 
 from service.core.network import NetworkError
 
-from .circuit import FAULT_TEMPERATURE_C, chain_network
+from .circuit import FAULT_TEMPERATURE_C, chain_network, lead_id
 from .model import Chain, Lead
 from .report import FaultReport, LengthLimit
-from service.core.network import solve
+from service.core.network import prepare
 
 MAX_SEARCH_LENGTH_M = 10_000.0
 LENGTH_TOLERANCE_M = 0.05
 MAX_SEARCH_SOLVES = 40
 
 
-def _drop_pct(chain: Chain, lead: Lead, length_m: float) -> float:
-    """Chain drop with one lead of ``length_m`` feeding every appliance; inf when it cannot be supplied."""
-    single = replace(chain, leads=(replace(lead, length_m=length_m, reel=None),),
-                     appliances=tuple(replace(a, outlet=0) for a in chain.appliances))
-    network, options = chain_network(single, (FAULT_TEMPERATURE_C,))
-    try:
-        solution = solve(network, replace(options, thevenin_between=()))
-    except NetworkError:
-        return math.inf
-    socket = solution.voltage("L0").voltage.magnitude
-    lowest = min(solution.voltage("L1").voltage.magnitude, socket)
-    return 100.0 * (socket - lowest) / chain.supply.nominal_voltage_v
+class _DropProbe:
+    """Chain drop with one lead of a given length feeding every appliance; inf when it cannot be supplied.
+
+    The one-lead network is prepared once (validation and topology) and only
+    the lead's length changes from probe to probe (PreparedNetwork.replace),
+    so each probe of the search costs one solve.
+    """
+
+    def __init__(self, chain: Chain, lead: Lead) -> None:
+        single = replace(chain, leads=(replace(lead, length_m=max(lead.length_m, 1.0), reel=None),),
+                         appliances=tuple(replace(a, outlet=0) for a in chain.appliances))
+        network, options = chain_network(single, (FAULT_TEMPERATURE_C,), with_fault_loops=False)
+        self._run = next(e for e in network.elements if e.id == lead_id(0))
+        self._prepared = prepare(network, options)
+        self._nominal_v = chain.supply.nominal_voltage_v
+
+    def __call__(self, length_m: float) -> float:
+        try:
+            solution = self._prepared.replace(replace(self._run, length_m=length_m)).solve()
+        except NetworkError:
+            return math.inf
+        socket = solution.voltage("L0").voltage.magnitude
+        lowest = min(solution.voltage("L1").voltage.magnitude, socket)
+        return 100.0 * (socket - lowest) / self._nominal_v
 
 
 def _by_drop(chain: Chain, lead: Lead) -> float | None:
@@ -50,7 +62,8 @@ def _by_drop(chain: Chain, lead: Lead) -> float | None:
     limit = chain.limits.voltage_drop_pct
     if not chain.appliances:
         return None
-    excess = lambda length: _drop_pct(chain, lead, length) - limit  # noqa: E731
+    drop_pct = _DropProbe(chain, lead)
+    excess = lambda length: drop_pct(length) - limit  # noqa: E731
     low, f_low = 0.0, -limit
     probe = max(1.0, lead.length_m)
     f_probe = excess(probe)
