@@ -81,11 +81,14 @@ def _copy_union_constraints(ours: dict[str, Any], msgspec_schema: dict[str, Any]
 
 
 EXAMPLE_DIGITS = 6
+# Below this (in any SI unit) a computed example value is round-off: KCL and power-balance residuals, the
+# reactive power of a resistor. Its digits change with the BLAS build and thread count, so it is shown as 0.
+ROUND_OFF = 1e-9
 
 
 def _rounded(value: Any) -> Any:
     if isinstance(value, float):
-        return float(f"{value:.{EXAMPLE_DIGITS}g}")
+        return 0.0 if abs(value) < ROUND_OFF else float(f"{value:.{EXAMPLE_DIGITS}g}")
     if isinstance(value, dict):
         return {k: _rounded(v) for k, v in value.items()}
     if isinstance(value, list):
