@@ -9,7 +9,7 @@ VENV   := .venv
 PY     := $(VENV)/bin/python
 PIP    := $(PY) -m pip --disable-pip-version-check
 
-.PHONY: run test install install-test system-test-deps system-deploy-deps contract lock bench load soak startup clean
+.PHONY: run test install install-test system-test-deps system-deploy-deps contract lock bench load soak startup survival audit clean
 
 $(VENV)/bin/python:
 	$(PYTHON) -m venv $(VENV)
@@ -43,8 +43,15 @@ system-deploy-deps:
 run: install
 	$(PY) -m service
 
+# The audit runs first, so pytest's summary stays the last line of the output.
 test: install-test
+	$(PY) tools/audit_locks.py
 	AMPLINE_REQUIRE_NGSPICE=1 $(PY) -m pytest
+
+# Known vulnerabilities in the locked dependencies (pip-audit). A vulnerability fails; an advisory service
+# that cannot be reached prints "NOT checked" and fails only with AMPLINE_AUDIT_REQUIRED=1 (tools/audit_locks.py).
+audit: $(VENV)/.test-installed
+	$(PY) tools/audit_locks.py
 
 # Regenerate the committed OpenAPI contract from the app.
 contract: install
@@ -68,6 +75,10 @@ soak: $(VENV)/.test-installed
 
 startup: $(VENV)/.test-installed
 	$(PY) load_tests/startup.py
+
+# 10,000 hostile requests at a real server (CI runs 1,000 in tests/e2e/test_survival.py; figures in docs/performance.md).
+survival: $(VENV)/.test-installed
+	$(PY) load_tests/survival.py --hostile 10000
 
 clean:
 	rm -rf $(VENV) .pytest_cache .hypothesis

@@ -113,11 +113,71 @@ def _round_response_examples(document: dict[str, Any]) -> None:
                             example["value"] = _rounded(example["value"])
 
 
+SECURITY_SCHEME = "apiKey"
+_ACCESS_HEADERS = {
+    "401": {"WWW-Authenticate": {"description": "The Bearer challenge (RFC 6750).", "schema": {"type": "string"}}},
+    "429": {"Retry-After": {"description": "Seconds until the caller may send again.",
+                            "schema": {"type": "string", "pattern": "^[0-9]+$"}}},
+}
+
+
+def _document_access(document: dict[str, Any]) -> None:
+    """The optional API key as a security scheme, and the headers of the 401 and 429 answers.
+
+    litestar's ResponseSpec carries no headers, and the key is optional (off unless configured), so every
+    guarded operation (one that documents 401) accepts either the key or nothing: ``[{apiKey: []}, {}]``.
+    """
+    guarded = False
+    for item in document.get("paths", {}).values():
+        for op in item.values():
+            if not isinstance(op, dict) or "401" not in op.get("responses", {}):
+                continue
+            guarded = True
+            op["security"] = [{SECURITY_SCHEME: []}, {}]
+            for status, headers in _ACCESS_HEADERS.items():
+                if status in op["responses"]:
+                    op["responses"][status]["headers"] = headers
+    if guarded:
+        document.setdefault("components", {}).setdefault("securitySchemes", {})[SECURITY_SCHEME] = {
+            "type": "http", "scheme": "bearer",
+            "description": ("An API key issued by the operator, as `Authorization: Bearer <key>`. Needed only when "
+                            "the service is configured with key hashes (AMPLINE_API_KEY_HASHES); the probes never "
+                            "need one."),
+        }
+
+
+# OpenAPI links: what one answer lets a client ask next.  The service keeps no state, so these are the
+# hand-overs a client really makes (a size picked from the library, then its run resistance); they also give
+# schemathesis' stateful tests their transitions.
+_LINKS = {
+    ("listConductors", "200"): {
+        "ResistanceOfAListedConductor": {
+            "operationId": "computeRunResistance",
+            "description": "The run resistance of the first conductor listed, 10 m at its table temperature.",
+            "requestBody": {"size": "$response.body#/conductors/0/size_label", "length": 10,
+                            "material": "$response.body#/conductors/0/material",
+                            "conductor_class": "$response.body#/conductors/0/conductor_class"},
+        },
+    },
+}
+
+
+def _add_links(document: dict[str, Any]) -> None:
+    for item in document.get("paths", {}).values():
+        for op in item.values():
+            if isinstance(op, dict):
+                for status, response in op.get("responses", {}).items():
+                    if links := _LINKS.get((op.get("operationId"), status)):
+                        response["links"] = links
+
+
 def finish_contract(document: dict[str, Any]) -> dict[str, Any]:
     """Return a copy of the generated document with request structs closed to unknown fields."""
     finished = msgspec.json.decode(msgspec.json.encode(document))  # plain builtins, a deep copy
     _name_request_examples(finished)
     _round_response_examples(finished)
+    _document_access(finished)
+    _add_links(finished)
     strict = _strict_structs()
     _, msgspec_components = msgspec.json.schema_components(list(strict.values()))
     for name, schema in finished.get("components", {}).get("schemas", {}).items():

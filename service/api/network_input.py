@@ -19,6 +19,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from service.api.inputs import FieldReader
+from service.api.limits import refuse_many_thevenin_pairs
 from service.api.problems import RequestInvalid
 from service.api.schemas.v1 import networks as s
 from service.api.settings import Settings
@@ -283,6 +284,7 @@ def terminals(e) -> tuple[str, ...]:
 def to_network(req: s.NetworkSolveRequest, settings: Settings) -> ParsedNetwork:
     """Validate and convert a request; raises RequestInvalid (422) naming every bad field at once."""
     check_element_limit(req, settings)
+    refuse_many_thevenin_pairs(len(req.options.thevenin_between), settings)  # each pair costs a solve
     reader = FieldReader()
     freq = reader.quantity(req.frequency, ANALYSIS_FREQUENCY, "frequency")  # NaN if bad: checked as AC
     c = _Converter(reader, dc=freq == 0.0)
@@ -301,6 +303,7 @@ def to_network(req: s.NetworkSolveRequest, settings: Settings) -> ParsedNetwork:
     o = req.options
     options = m.SolveOptions(
         max_iterations=o.max_iterations,
+        deadline_s=settings.compute_deadline_s,  # Newton stops itself rather than run on past the request's deadline
         on_load_undervoltage=o.on_load_undervoltage,
         thevenin_between=tuple((p.a, p.b) for p in o.thevenin_between),
     )

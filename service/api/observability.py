@@ -79,7 +79,9 @@ def request_logging_middleware(app: ASGIApp) -> ASGIApp:
                 "request",
                 request_id=request_id,  # explicit too, so processors that skip contextvars keep it
                 method=scope.get("method"),
-                route=scope.get("path_template") or path,
+                # The matched route's template only: a raw path is the client's text (an unknown URL may carry a
+                # pasted API key or be kilobytes long), so unmatched paths are not written out.
+                route=scope.get("path_template") or (path if path in _QUIET_PATHS else "(no route)"),
                 status=status,
                 duration_ms=round((time.perf_counter() - started) * 1000, 3),
             )

@@ -10,6 +10,7 @@ content type; 500 only for our own defects, with no internals in the body.
 
 from __future__ import annotations
 
+import asyncio
 import json
 import math
 import re
@@ -18,12 +19,18 @@ from typing import Any, Iterable
 import msgspec
 import structlog
 from litestar import MediaType, Request, Response
-from litestar.exceptions import HTTPException, ValidationException
+from litestar.exceptions import HTTPException, InternalServerException, ValidationException
 from litestar.openapi.datastructures import ResponseSpec
-from litestar.status_codes import HTTP_400_BAD_REQUEST, HTTP_422_UNPROCESSABLE_ENTITY, HTTP_500_INTERNAL_SERVER_ERROR
+from litestar.status_codes import (
+    HTTP_400_BAD_REQUEST,
+    HTTP_422_UNPROCESSABLE_ENTITY,
+    HTTP_500_INTERNAL_SERVER_ERROR,
+    HTTP_503_SERVICE_UNAVAILABLE,
+)
 
 from litestar.utils.scope.state import ScopeState
 
+from service.api.compute import ComputeDeadlineExceeded
 from service.core.errors import CalcError
 
 PROBLEM_MEDIA_TYPE = "application/problem+json"
@@ -67,6 +74,7 @@ _TITLES = {
     403: "Not allowed",
     404: "No such resource",
     405: "Method not allowed",
+    408: "Request body not received in time",
     413: "Request body too large",
     415: "Unsupported media type",
     422: "The request cannot be calculated",
@@ -74,16 +82,19 @@ _TITLES = {
     500: "Internal error",
     503: "Service not ready",
 }
-_SLUGS = {400: "invalid-body", 404: "not-found", 405: "method-not-allowed", 413: "body-too-large",
-          415: "unsupported-media-type", 422: "unprocessable", 500: "internal-error", 503: "not-ready"}
+_SLUGS = {400: "invalid-body", 401: "api-key-required", 403: "api-key-refused", 404: "not-found",
+          405: "method-not-allowed", 408: "body-timeout", 413: "body-too-large", 415: "unsupported-media-type",
+          422: "unprocessable", 429: "rate-limited", 500: "internal-error", 503: "not-ready"}
+DEADLINE_SLUG = "compute-deadline-exceeded"
+DEADLINE_TITLE = "Calculation deadline exceeded"
 
 
 def problem_response(status: int, detail: str, request: Request | None = None, *, slug: str | None = None,
                      errors: list[FieldProblem] | None = None, how_to_fix: str | None = None,
-                     headers: dict[str, str] | None = None) -> Response[Problem]:
+                     headers: dict[str, str] | None = None, title: str | None = None) -> Response[Problem]:
     body = Problem(
         type=PROBLEM_BASE + (slug or _SLUGS.get(status, f"http-{status}")),
-        title=_TITLES.get(status, "Request failed"),
+        title=title or _TITLES.get(status, "Request failed"),
         status=status,
         detail=detail,
         instance=request.url.path if request is not None else None,
@@ -199,6 +210,12 @@ def handle_calc_error(request: Request, exc: CalcError) -> Response[Problem]:
                             errors=errors, how_to_fix=exc.how_to_fix or None)
 
 
+def handle_deadline(request: Request, exc: ComputeDeadlineExceeded) -> Response[Problem]:
+    return problem_response(HTTP_503_SERVICE_UNAVAILABLE, str(exc), request, slug=DEADLINE_SLUG, title=DEADLINE_TITLE,
+                            how_to_fix="Send a smaller calculation (fewer elements, leads or node pairs), or ask the "
+                                       "operator for a longer AMPLINE_COMPUTE_DEADLINE_S.")
+
+
 def handle_unexpected(request: Request, exc: Exception) -> Response[Problem]:
     structlog.get_logger("ampline.error").error("unhandled_exception", exc_info=exc, path=request.url.path)
     return problem_response(HTTP_500_INTERNAL_SERVER_ERROR, "The service could not complete the request.", request)
@@ -209,6 +226,7 @@ EXCEPTION_HANDLERS: dict[Any, Any] = {
     HTTPException: handle_http,
     RequestInvalid: handle_request_invalid,
     CalcError: handle_calc_error,
+    ComputeDeadlineExceeded: handle_deadline,
     HTTP_500_INTERNAL_SERVER_ERROR: handle_unexpected,
     Exception: handle_unexpected,
 }
@@ -221,11 +239,20 @@ def _spec(description: str, example: Problem) -> ResponseSpec:
                         examples=[Example(summary=example.title, value=msgspec.to_builtins(example))])
 
 
-def error_responses(*statuses: int, body: bool = True) -> dict[int, ResponseSpec]:
-    """Documented problem+json responses for a route: 400 and 500 always, 413 and 415 when it takes a body."""
+def error_responses(*statuses: int, body: bool = True, guarded: bool = True,
+                    compute: bool = False) -> dict[int, ResponseSpec]:
+    """Documented problem+json responses for a route: 400 and 500 always; 408, 413 and 415 when it takes a body;
+    401, 403 and 429 when it is behind the API keys and rate limit (``guarded``: all but the probes); 503 with
+    the deadline problem for a calculation (``compute``)."""
     examples = {
         400: Problem(PROBLEM_BASE + "invalid-body", _TITLES[400], 400, "/length: Expected `float | str`, got `bool`",
                      errors=[FieldProblem("/length", "Expected `float | str`, got `bool`")]),
+        401: Problem(PROBLEM_BASE + "api-key-required", _TITLES[401], 401,
+                     "Send an API key: Authorization: Bearer <key>."),
+        403: Problem(PROBLEM_BASE + "api-key-refused", _TITLES[403], 403, "This API key is not accepted here."),
+        408: Problem(PROBLEM_BASE + "body-timeout", _TITLES[408], 408,
+                     "The request body did not arrive within 10 s."),
+        429: Problem(PROBLEM_BASE + "rate-limited", _TITLES[429], 429, "Too many requests from this caller; retry later."),
         413: Problem(PROBLEM_BASE + "body-too-large", _TITLES[413], 413, "Request Entity Too Large"),
         415: Problem(PROBLEM_BASE + "unsupported-media-type", _TITLES[415], 415, "Send the body as application/json."),
         422: Problem(PROBLEM_BASE + "invalid-value", _TITLES[422], 422, "/length: 'kg' is not a unit of length (expected something like '30 m')",
@@ -233,8 +260,16 @@ def error_responses(*statuses: int, body: bool = True) -> dict[int, ResponseSpec
         500: Problem(PROBLEM_BASE + "internal-error", _TITLES[500], 500, "The service could not complete the request."),
         503: Problem(PROBLEM_BASE + "not-ready", _TITLES[503], 503, "Data tables are not loaded yet."),
     }
-    wanted = sorted({400, 500, *((413, 415) if body else ()), *statuses})
-    return {s: _spec(_TITLES[s], examples[s]) for s in wanted if s in examples}
+    if compute:
+        examples[503] = Problem(PROBLEM_BASE + DEADLINE_SLUG, DEADLINE_TITLE, 503,
+                                "The calculation did not finish within this service's 10 s deadline (while calculating).")
+    wanted = sorted({400, 500, *((408, 413, 415) if body else ()), *((401, 403, 429) if guarded else ()),
+                     *((503,) if compute else ()), *statuses})
+    descriptions = {**_TITLES, 503: DEADLINE_TITLE if compute else _TITLES[503],
+                    401: "API key missing or malformed (only when the service has keys configured)",
+                    403: "API key not accepted (only when the service has keys configured)",
+                    429: "Rate limit reached (only when one is configured); see the Retry-After header"}
+    return {s: _spec(descriptions[s], examples[s]) for s in wanted if s in examples}
 
 
 _STRICT_DECODERS: dict[Any, tuple[msgspec.json.Decoder, Any] | None] = {}
@@ -297,7 +332,15 @@ async def body_guard(request: Request) -> None:
     strict = _strict_decoder(request.route_handler)
     if strict is None:
         return
-    body = await request.body()  # over the size limit: 413 here
+    timeout_s = request.app.state.settings.body_timeout_s
+    try:  # over the size limit: 413 here; a body trickled in slower than the timeout (slowloris): 408
+        body = await asyncio.wait_for(request.body(), timeout_s)
+    except TimeoutError:
+        raise HTTPException(status_code=408, detail=f"The request body did not arrive within {timeout_s:g} s.",
+                            headers={"Connection": "close"}) from None
+    except InternalServerException:  # litestar's word for a client gone before its body was complete: not our fault
+        raise HTTPException(status_code=HTTP_400_BAD_REQUEST, detail="The request body ended before it was complete.",
+                            headers={"Connection": "close"}) from None
     try:
         normalised = _strictly_valid(body, *strict)
     except msgspec.ValidationError as exc:

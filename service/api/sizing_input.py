@@ -1,4 +1,8 @@
-"""The edge of POST /v1/conductors/size and /verify: request -> core SizingInput, every bad field named at once."""
+"""The edge of POST /v1/conductors/size and /verify (IEC 60364): request -> core SizingInput, every bad field named.
+
+Fields of the request that only the NEC regime uses are refused here (see
+``regime_fields``); the IEC defaults of optional fields are applied here.
+"""
 
 from __future__ import annotations
 
@@ -37,7 +41,7 @@ def _load(reader: FieldReader, load: s.LoadIn) -> LoadSpec:
     if (load.design_current is None) == (load.power is None):
         reader.add("give either design_current or power (with power_factor), not both and not neither", "load")
     return LoadSpec(
-        phases=load.phases,
+        phases=load.phases or "single",
         design_current_a=_optional(reader, load.design_current, CURRENT, "load", "design_current"),
         power_w=_optional(reader, load.power, POWER, "load", "power"),
         voltage_v=_optional(reader, load.voltage, VOLTAGE, "load", "voltage"),
@@ -47,20 +51,23 @@ def _load(reader: FieldReader, load: s.LoadIn) -> LoadSpec:
 
 
 def _circuit(reader: FieldReader, c: s.CircuitIn) -> CircuitSpec:
+    if c.method is None:
+        reader.add("required for regime iec60364: the reference installation method", "circuit", "method")
+    grouping = c.grouping or s.GroupingIn()
     return CircuitSpec(
         length_m=reader.quantity(c.length, LENGTH, "circuit", "length"),
-        method=c.method,
+        method=c.method or "C",
         material=c.material,
-        insulation=c.insulation,
-        cable=c.cable,
-        formation=c.formation,
+        insulation=c.insulation or "pvc_70",
+        cable=c.cable or "multicore",
+        formation=c.formation or "trefoil",
         ambient_c=_optional(reader, c.ambient_temperature, TEMPERATURE, "circuit", "ambient_temperature"),
         ambient_medium=c.ambient_medium,
-        grouped_circuits=c.grouping.circuits,
-        arrangement=c.grouping.arrangement,
-        spacing=c.grouping.spacing,
-        thermal_insulation_length_m=reader.quantity(c.thermal_insulation_length, LENGTH_OR_ZERO, "circuit",
-                                                    "thermal_insulation_length"),
+        grouped_circuits=grouping.circuits,
+        arrangement=grouping.arrangement,
+        spacing=grouping.spacing,
+        thermal_insulation_length_m=_optional(reader, c.thermal_insulation_length, LENGTH_OR_ZERO, "circuit",
+                                              "thermal_insulation_length") or 0.0,
         soil_resistivity_k_m_per_w=_optional(reader, c.soil_thermal_resistivity, SOIL_THERMAL_RESISTIVITY, "circuit",
                                              "soil_thermal_resistivity"),
         neutral=c.neutral,
@@ -69,26 +76,28 @@ def _circuit(reader: FieldReader, c: s.CircuitIn) -> CircuitSpec:
 
 def _protection(reader: FieldReader, p: s.ProtectionIn) -> ProtectionSpec:
     return ProtectionSpec(
-        device_type=p.device.type,
+        device_type=p.device.type or "B",
         rated_current_a=_optional(reader, p.device.rated_current, CURRENT, "protection", "device", "rated_current"),
         rcd_residual_current_a=None if p.rcd is None else reader.quantity(
             p.rcd.rated_residual_current, RESIDUAL_CURRENT, "protection", "rcd", "rated_residual_current"),
         required_time_s=_optional(reader, p.required_disconnection_time, DISCONNECTION_TIME, "protection",
                                   "required_disconnection_time"),
-        circuit_kind=p.circuit_kind,
+        circuit_kind=p.circuit_kind or "fixed_equipment",
         let_through_i2t_a2s=_optional(reader, p.let_through_energy, LET_THROUGH_ENERGY, "protection",
                                       "let_through_energy"),
     )
 
 
 def _supply(reader: FieldReader, sup: s.SupplyIn) -> SupplySpec:
+    if sup.ze is None:
+        reader.add("required for regime iec60364: the external earth-fault loop impedance", "supply", "ze")
     return SupplySpec(
-        u0_v=reader.quantity(sup.u0, VOLTAGE, "supply", "u0"),
-        earthing=sup.earthing,
-        ze_ohm=reader.quantity(sup.ze, IMPEDANCE, "supply", "ze"),
+        u0_v=230.0 if sup.u0 is None else reader.quantity(sup.u0, VOLTAGE, "supply", "u0"),
+        earthing=sup.earthing or "TN-C-S",
+        ze_ohm=0.35 if sup.ze is None else reader.quantity(sup.ze, IMPEDANCE, "supply", "ze"),
         prospective_fault_current_a=_optional(reader, sup.prospective_fault_current, CURRENT, "supply",
                                               "prospective_fault_current"),
-        frequency_hz=reader.quantity(sup.frequency, FREQUENCY, "supply", "frequency"),
+        frequency_hz=50.0 if sup.frequency is None else reader.quantity(sup.frequency, FREQUENCY, "supply", "frequency"),
         electrode_resistance_ohm=_optional(reader, sup.electrode_resistance, IMPEDANCE, "supply", "electrode_resistance"),
     )
 
@@ -100,23 +109,54 @@ def _protective_conductor(reader: FieldReader, pc: s.ProtectiveConductorIn) -> P
         if size.system != "metric":
             reader.add("IEC 60364 sizing takes metric sizes (mm²)", "protective_conductor", "size")
         area = size.area_m2
-    if pc.mode == "given" and pc.size is None:
+    mode = pc.mode or "same_as_line"
+    check_protective_mode(reader, mode, pc)
+    return ProtectiveConductorSpec(mode=mode, area_m2=area)
+
+
+def check_protective_mode(reader: FieldReader, mode: str, pc: s.ProtectiveConductorIn) -> None:
+    if mode == "given" and pc.size is None:
         reader.add("mode 'given' needs the protective conductor's size", "protective_conductor", "size")
-    if pc.mode != "given" and pc.size is not None:
-        reader.add(f"a size is given but the mode is '{pc.mode}': use mode 'given'", "protective_conductor", "mode")
-    return ProtectiveConductorSpec(mode=pc.mode, area_m2=area)
+    if mode != "given" and pc.size is not None:
+        reader.add(f"a size is given but the mode is '{mode}': use mode 'given'", "protective_conductor", "mode")
+
+
+# Fields only one regime uses: (path, the regime they belong to).  A field given for the other regime is a 422.
+IEC_ONLY = (("circuit", "method"), ("circuit", "insulation"), ("circuit", "cable"), ("circuit", "formation"),
+            ("circuit", "ambient_medium"), ("circuit", "grouping"), ("circuit", "thermal_insulation_length"),
+            ("circuit", "soil_thermal_resistivity"), ("protection", "device", "type"), ("protection", "rcd"),
+            ("protection", "required_disconnection_time"), ("protection", "circuit_kind"),
+            ("protection", "let_through_energy"), ("supply", "u0"), ("supply", "earthing"), ("supply", "ze"),
+            ("supply", "prospective_fault_current"), ("supply", "electrode_resistance"), ("limits", "use"),
+            ("limits", "supply_kind"))
+NEC_ONLY = (("load", "continuous_share"), ("circuit", "conductor_type"), ("circuit", "insulation_rating"),
+            ("circuit", "termination_rating"), ("circuit", "raceway"), ("circuit", "current_carrying_conductors"),
+            ("circuit", "role"), ("circuit", "installation"), ("supply", "system"))
+REGIME_NAMES = {"iec60364": "IEC 60364", "nec": "the NEC"}
+
+
+def regime_fields(reader: FieldReader, req: s.SizingRequest) -> None:
+    """Name every field given that the chosen regime does not use."""
+    foreign, owner = (NEC_ONLY, "nec") if req.regime == "iec60364" else (IEC_ONLY, "iec60364")
+    for path in foreign:
+        value = req
+        for name in path:
+            value = getattr(value, name)
+        if value is not None:
+            reader.add(f"applies to regime {owner} ({REGIME_NAMES[owner]}) only, not {req.regime}", *path)
 
 
 def to_sizing_input(req: s.SizingRequest | s.VerifyRequest) -> tuple[SizingInput, float | None]:
     """The request as a core SizingInput (and the size to verify, in m²); RequestInvalid (422) names every bad field."""
     reader = FieldReader()
+    regime_fields(reader, req)
     spec = SizingInput(
         load=_load(reader, req.load),
         circuit=_circuit(reader, req.circuit),
         protection=_protection(reader, req.protection),
         supply=_supply(reader, req.supply),
-        limits=LimitsSpec(voltage_drop_pct=req.limits.voltage_drop, use=req.limits.use,
-                          supply_kind=req.limits.supply_kind, upstream_drop_pct=req.limits.upstream_drop),
+        limits=LimitsSpec(voltage_drop_pct=req.limits.voltage_drop, use=req.limits.use or "other",
+                          supply_kind=req.limits.supply_kind or "public_lv", upstream_drop_pct=req.limits.upstream_drop),
         protective_conductor=_protective_conductor(reader, req.protective_conductor),
     )
     area = None

@@ -35,6 +35,11 @@ class CalcError(Exception):
         super().__init__(self.detail)
 
 
+def calc_error(code: str, detail: str, how_to_fix: str, *blames: tuple[tuple[str | int, ...], str]) -> CalcError:
+    """A CalcError blaming each (location, message) pair given."""
+    return CalcError(code=code, detail=detail, how_to_fix=how_to_fix, blames=tuple(Blame(loc, msg) for loc, msg in blames))
+
+
 class UnknownConductor(CalcError):
     """No conductor in the library matches the requested size/material/class."""
 

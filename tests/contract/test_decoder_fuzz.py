@@ -84,3 +84,12 @@ def test_a_valid_body_with_one_value_replaced_is_answered_cleanly(client, path, 
     example = data.draw(st.sampled_from(EXAMPLES[path]))
     where = data.draw(st.sampled_from(list(_paths(example))))
     assert_clean(post(client, path, _replaced(example, where, new)))
+
+
+def test_every_route_that_takes_a_body_is_fuzzed_here():
+    """The fuzzing above covers the contract's POST operations: every body-taking route must be one, with examples."""
+    app = create_app(Settings())
+    with_body = {route.path for route in app.routes for handler in getattr(route, "route_handlers", [])
+                 if "data" in handler.parsed_fn_signature.parameters}
+    assert with_body and with_body == set(POSTS)
+    assert all(EXAMPLES[path] for path in with_body)

@@ -20,11 +20,20 @@ def test_environment_overrides_and_integer_parsing():
 @pytest.mark.parametrize(
     "env",
     [{"AMPLINE_PORT": "0"}, {"AMPLINE_PORT": "eighty"}, {"AMPLINE_LOG_FORMAT": "xml"},
-     {"AMPLINE_LOG_LEVEL": "chatty"}, {"AMPLINE_MAX_BODY_BYTES": "10"}, {"AMPLINE_WORKERS": "0"}],
+     {"AMPLINE_LOG_LEVEL": "chatty"}, {"AMPLINE_MAX_BODY_BYTES": "10"}, {"AMPLINE_WORKERS": "0"},
+     {"AMPLINE_COMPUTE_DEADLINE_S": "0"}, {"AMPLINE_COMPUTE_DEADLINE_S": "nan"}, {"AMPLINE_COMPUTE_DEADLINE_S": "soon"},
+     {"AMPLINE_BODY_TIMEOUT_S": "-1"}, {"AMPLINE_COMPUTE_THREADS": "0"}, {"AMPLINE_MAX_CHAIN_LEADS": "0"},
+     {"AMPLINE_RATE_LIMIT_REQUESTS": "-5"}, {"AMPLINE_RATE_LIMIT_WINDOW_S": "0"},
+     {"AMPLINE_STRICT_TRANSPORT_SECURITY": "includeSubDomains"}, {"AMPLINE_METRICS_REQUIRE_KEY": "perhaps"}],
 )
 def test_bad_settings_stop_start_up(env):
     with pytest.raises(ValueError):
         Settings.from_env(env)
+
+
+def test_decimal_seconds_are_read_as_numbers():
+    s = Settings.from_env({"AMPLINE_COMPUTE_DEADLINE_S": "2.5", "AMPLINE_BODY_TIMEOUT_S": "3"})
+    assert (s.compute_deadline_s, s.body_timeout_s) == (2.5, 3.0)
 
 
 def test_readme_settings_table_lists_every_setting_with_its_default():
@@ -33,5 +42,6 @@ def test_readme_settings_table_lists_every_setting_with_its_default():
 
     readme = (Path(__file__).resolve().parents[2] / "README.md").read_text(encoding="utf-8")
     for f in fields(Settings):
-        row = f"| `AMPLINE_{f.name.upper()}` | `{f.default}` |"
+        default = f"`{f.default}`" if f.default != "" else "(empty)"
+        row = f"| `AMPLINE_{f.name.upper()}` | {default} |"
         assert row in readme, f"README settings table: missing or stale row for AMPLINE_{f.name.upper()}"

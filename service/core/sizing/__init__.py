@@ -1,8 +1,9 @@
 """Conductor sizing and verification: the smallest compliant size, or every check on a chosen one.
 
-A regime (regime.py) supplies a standard's tables and rules; IEC 60364 is the
-first.  Sizing and verification share one check pipeline (checks.py); voltage
-drop and earth-fault loop impedance come from the network solver (circuit.py).
+A regime is a standard's tables and rules behind ``regimes.SizingRegime``:
+IEC 60364 (regime.py, its check pipeline in engine.py and checks.py) and the
+NEC (nec/).  Both share the search over candidate sizes (search.py), the
+network solve of the voltage drop (circuit.py) and the result records (model.py).
 Pure: SI floats in, frozen results out; a design that does not comply is a
 verdict, a CalcError means no answer exists.
 """
@@ -28,11 +29,12 @@ from .model import (
     SupplySpec,
 )
 from .regime import Iec60364Regime, Regime, iec60364
+from .regimes import REGIMES, SizingRegime, sizing_regime
 from .tables import SizingTables, default_sizing_tables
 
 __all__ = [
     "ARRANGEMENTS", "CHECK_ORDER", "METHODS", "SPACINGS", "Check", "CircuitSpec", "Device", "Factor",
     "Iec60364Regime", "LimitsSpec", "LoadSpec", "ProtectionSpec", "ProtectiveConductorSpec", "Regime",
     "SizeEvaluation", "SizingInput", "SizingResult", "SizingTables", "Step", "SupplySpec", "default_sizing_tables",
-    "design_current", "iec60364", "size_conductor", "verify_conductor",
+    "design_current", "iec60364", "size_conductor", "verify_conductor", "REGIMES", "SizingRegime", "sizing_regime",
 ]

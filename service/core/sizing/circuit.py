@@ -34,12 +34,16 @@ from service.core.network import CableRun, CurrentSource, Network, SolveOptions,
 class RunCase:
     line: Conductor
     pe: Conductor
+    # A regime with tabulated AC impedances (NEC Chapter 9 Table 9) gives them here; otherwise the line's
+    # resistance at the operating temperature and the regime's one reactance are used.
+    line_r_ohm_per_m: float | None = None
+    line_x_ohm_per_m: float | None = None
 
 
 @dataclass(frozen=True, slots=True)
 class RunSolution:
     drop_v: float
-    zs_ohm: float
+    zs_ohm: float | None  # None when the regime asks for no earth-fault loop
     r1_ohm: float
     r2_ohm: float
 
@@ -57,18 +61,20 @@ class Electrical:
     ze_ohm: float
     temperature_c: float
     reactance_ohm_per_m: float
+    fault_loop: bool = True  # build the earth-fault loop too (IEC 60364-4-41); the NEC regime does not check Zs
 
 
-def _elements(k: int, case: RunCase, e: Electrical) -> tuple[list, tuple[str, str]]:
+def _elements(k: int, case: RunCase, e: Electrical) -> tuple[list, tuple[str, str] | None]:
     p = f"s{k}"
-    r_line = case.line.resistance_per_m_at(e.temperature_c)
+    r_line = case.line.resistance_per_m_at(e.temperature_c) if case.line_r_ohm_per_m is None else case.line_r_ohm_per_m
+    x_line = e.reactance_ohm_per_m if case.line_x_ohm_per_m is None else case.line_x_ohm_per_m
     r_pe = case.pe.resistance_per_m_at(e.temperature_c)
     lag = -math.degrees(math.acos(e.power_factor))
     elements: list = []
     if e.phases == "single":
         elements += [
             VoltageSource(f"{p}-src", f"{p}-o", "0", e.u0_v),
-            CableRun(f"{p}-run", f"{p}-o", f"{p}-l", e.length_m, r_line, e.reactance_ohm_per_m, go_and_return=True),
+            CableRun(f"{p}-run", f"{p}-o", f"{p}-l", e.length_m, r_line, x_line, go_and_return=True),
             CurrentSource(f"{p}-load", f"{p}-l", "0", e.design_current_a, lag),
         ]
     else:
@@ -76,9 +82,11 @@ def _elements(k: int, case: RunCase, e: Electrical) -> tuple[list, tuple[str, st
         elements.append(ThreePhaseSupply(f"{p}-src", *(f"{p}-o{n}" for n in lines), "0", e.u0_v))
         for n, shift in zip(lines, (0.0, -120.0, 120.0)):
             elements += [
-                CableRun(f"{p}-run{n}", f"{p}-o{n}", f"{p}-l{n}", e.length_m, r_line, e.reactance_ohm_per_m),
+                CableRun(f"{p}-run{n}", f"{p}-o{n}", f"{p}-l{n}", e.length_m, r_line, x_line),
                 CurrentSource(f"{p}-load{n}", f"{p}-l{n}", "0", e.design_current_a, shift + lag),
             ]
+    if not e.fault_loop:
+        return elements, None
     elements += [
         VoltageSource(f"{p}-fault", f"{p}-f0", "0", e.u0_v, internal_resistance_ohm=e.ze_ohm),
         CableRun(f"{p}-r1", f"{p}-f0", f"{p}-f1", e.length_m, r_line),
@@ -98,16 +106,19 @@ def solve_runs(cases: list[RunCase], e: Electrical) -> list[RunSolution]:
     for k, case in enumerate(cases):
         els, pair = _elements(k, case, e)
         elements += els
-        pairs.append(pair)
+        if pair is not None:
+            pairs.append(pair)
     solution = solve(Network(elements=tuple(elements), frequency_hz=e.frequency_hz),
                      SolveOptions(thevenin_between=tuple(pairs)))
+    thevenins = solution.thevenin if e.fault_loop else [None] * len(cases)
     found = []
-    for k, (case, thevenin) in enumerate(zip(cases, solution.thevenin)):
+    for k, (case, thevenin) in enumerate(zip(cases, thevenins)):
         v_load = solution.voltage(load_node(k, e.phases)).voltage.real  # the EMF is at 0 degrees
         found.append(RunSolution(
             drop_v=e.u0_v - v_load,
-            zs_ohm=thevenin.impedance_ohm,
-            r1_ohm=case.line.resistance_per_m_at(e.temperature_c) * e.length_m,
+            zs_ohm=None if thevenin is None else thevenin.impedance_ohm,
+            r1_ohm=(case.line.resistance_per_m_at(e.temperature_c) if case.line_r_ohm_per_m is None
+                    else case.line_r_ohm_per_m) * e.length_m,
             r2_ohm=case.pe.resistance_per_m_at(e.temperature_c) * e.length_m,
         ))
     return found

@@ -11,13 +11,14 @@ from __future__ import annotations
 import math
 
 from service.core.conductors import Conductor
-from service.core.errors import Blame, CalcError
+from service.core.errors import CalcError, calc_error
 from service.core.protection import CircuitBreaker, GGFuse, ResidualCurrentDevice, required_disconnection_time
 
 from .checks import CHECK_ORDER, THERMAL_CHECKS, Context, evaluate, request_blames
 from .circuit import Electrical
 from .model import Device, SizeEvaluation, SizingInput, SizingResult, Step
 from .regime import Capacity, Regime, iec60364
+from .search import governing_check, smallest_passing
 
 MM2 = 1.0e-6
 WAYS_OUT = {
@@ -36,8 +37,7 @@ WAYS_OUT = {
 }
 
 
-def _fail(code: str, detail: str, fix: str, *blames: tuple[tuple[str | int, ...], str]) -> CalcError:
-    return CalcError(code=code, detail=detail, how_to_fix=fix, blames=tuple(Blame(loc, msg) for loc, msg in blames))
+_fail = calc_error
 
 
 def design_current(spec: SizingInput) -> tuple[float, Step]:
@@ -187,10 +187,7 @@ def _cautions(ctx: Context) -> tuple[str, ...]:
 
 
 def _governing(rejected: list[SizeEvaluation]) -> str | None:
-    if not rejected:
-        return None
-    failing = rejected[-1].failing
-    return next(name for name in CHECK_ORDER if name in failing)
+    return governing_check(rejected, CHECK_ORDER)
 
 
 def _result(ctx: Context, mode: str, verdict: str, chosen: SizeEvaluation | None, rejected: list[SizeEvaluation],
@@ -225,23 +222,8 @@ def size_conductor(spec: SizingInput, regime: Regime | None = None) -> SizingRes
     regime = regime or iec60364()
     ctx, steps = context(spec, regime)
     sizes = _sizes(ctx)
-    table_only, _ = evaluate(ctx, sizes, with_network=False)
-    evaluated = list(table_only)
-    passing = [k for k, ev in enumerate(table_only) if ev.passes]
-    solves, chosen_k = 0, None
-    if passing:
-        (first,), solves = evaluate(ctx, [sizes[passing[0]]], with_network=True)
-        evaluated[passing[0]] = first
-        if first.passes:
-            chosen_k = passing[0]
-        elif len(passing) > 1:
-            rest, n = evaluate(ctx, [sizes[k] for k in passing[1:]], with_network=True)
-            solves += n
-            for k, ev in zip(passing[1:], rest):
-                evaluated[k] = ev
-            chosen_k = next((k for k in passing[1:] if evaluated[k].passes), None)
-    chosen = None if chosen_k is None else evaluated[chosen_k]
-    rejected = evaluated if chosen_k is None else evaluated[:chosen_k]
+    found = smallest_passing(sizes, lambda batch, with_network: evaluate(ctx, list(batch), with_network))
+    table_only, chosen, rejected, solves = found.table_only, found.chosen, list(found.rejected), found.solves
     if chosen is not None:
         ampacity_size = next(ev for ev in table_only if ev.passes)
         if ampacity_size.size_label != chosen.size_label:

@@ -118,6 +118,7 @@ class Check:
     condition: str
     source: str
     detail: str = ""
+    obligation: Literal["requirement", "guidance"] = "requirement"  # guidance: an informational note, not a rule
 
 
 @dataclass(frozen=True, slots=True)
@@ -126,9 +127,9 @@ class Device:
     rated_current_a: float
     chosen_by_service: bool
     label: str
-    conventional_current_a: float  # I2
-    conventional_multiple: float
-    conventional_source: str
+    conventional_current_a: float | None  # I2 (IEC 60364); None where the regime has no such rule (NEC)
+    conventional_multiple: float | None
+    conventional_source: str | None
 
 
 @dataclass(frozen=True, slots=True)
@@ -173,8 +174,8 @@ class SizingResult:
     drop_limit_pct: float
     drop_limit_source: str
     available_drop_pct: float
-    disconnection_time_s: float
-    disconnection_source: str
+    disconnection_time_s: float | None  # None where the regime sets no disconnection time (NEC)
+    disconnection_source: str | None
     chosen: SizeEvaluation | None  # size: the smallest compliant size; verify: the size given
     governing_check: str | None
     rejected: tuple[SizeEvaluation, ...]  # every smaller size, with its failing checks
@@ -185,3 +186,4 @@ class SizingResult:
     cautions: tuple[str, ...]
     table_ids: tuple[str, ...]
     solves: int
+    raceway: object | None = None  # NEC: the raceway fill of the chosen size (nec.fill.FillResult), when a raceway is given

@@ -3,9 +3,10 @@
 The check pipeline (engine.py, checks.py) asks a Regime for everything that
 differs between standards — tabulated capacities, correction factors, device
 ratings, the conventional-current rule, voltage-drop limits, the minimum
-protective conductor — and nothing else, so another standard (the NEC, in a
-later issue) plugs in by implementing the same protocol with its own tables.
-IEC 60364 is the first regime (``Iec60364Regime``).
+protective conductor — and ``Iec60364Regime`` fills it in with IEC 60364's
+tables.  This protocol is the IEC pipeline's own: the pluggable unit across
+standards is ``regimes.SizingRegime``, which the NEC (``nec/``) implements with
+its own rules on the shared search, network solve and result records.
 """
 
 from __future__ import annotations
@@ -16,7 +17,7 @@ from functools import lru_cache
 from typing import Protocol
 
 from service.core.conductors import Conductor, ConductorLibrary, default_library
-from service.core.errors import Blame, CalcError
+from service.core.errors import calc_error
 from service.core.protection import ProtectionLibrary, default_protection
 
 from .model import BURIED_METHODS, CircuitSpec, Factor, LimitsSpec, Step
@@ -61,8 +62,7 @@ BURIED_SPACINGS = {"D2": ("touching", "one_cable_diameter", "0.125_m", "0.25_m",
                    "D1": ("touching", "0.25_m", "0.5_m", "1.0_m")}
 
 
-def _blame(code: str, detail: str, how_to_fix: str, *blames: tuple[tuple[str | int, ...], str]) -> CalcError:
-    return CalcError(code=code, detail=detail, how_to_fix=how_to_fix, blames=tuple(Blame(loc, msg) for loc, msg in blames))
+_blame = calc_error
 
 
 @dataclass(frozen=True, slots=True)

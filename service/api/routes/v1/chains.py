@@ -6,13 +6,16 @@ from typing import Annotated
 
 import msgspec
 from litestar import post
+from litestar.datastructures import State
 from litestar.enums import RequestEncodingType
 from litestar.openapi.datastructures import ResponseSpec
 from litestar.openapi.spec import Example
 from litestar.params import Body
 
 from service.api.chain_input import to_chain
+from service.api.compute import calculate
 from service.api.contract import request_examples
+from service.api.limits import refuse_long_chain
 from service.api.problems import error_responses
 from service.api.routes.v1.conductors import source_refs
 from service.api.schemas.v1 import chains as s
@@ -164,7 +167,7 @@ _EXAMPLES = {
     ),
     status_code=200,
     responses={
-        **error_responses(422),
+        **error_responses(422, compute=True),
         200: ResponseSpec(
             data_container=s.LeadChainResult, generate_examples=False,
             description="Verdicts, values and recommendations, with steps, sources and cautions.",
@@ -176,5 +179,7 @@ _EXAMPLES = {
 async def analyse_lead_chain(
     data: Annotated[s.LeadChainRequest, Body(media_type=RequestEncodingType.JSON,
                                             examples=request_examples("analyseLeadChain", _EXAMPLES))],
+    state: State,
 ) -> s.LeadChainResult:
-    return analyse(data)
+    refuse_long_chain(len(data.leads), len(data.appliances), state.settings)
+    return await calculate(state, analyse, data)

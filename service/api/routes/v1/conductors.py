@@ -6,11 +6,13 @@ from typing import Annotated, Literal
 
 import msgspec
 from litestar import get, post
+from litestar.datastructures import State
 from litestar.enums import RequestEncodingType
 from litestar.openapi.datastructures import ResponseSpec
 from litestar.openapi.spec import Example
 from litestar.params import Body, Parameter
 
+from service.api.compute import calculate
 from service.api.contract import request_examples
 from service.api.inputs import FieldReader
 from service.api.problems import error_responses
@@ -125,7 +127,7 @@ _EXAMPLES = {
     ),
     status_code=200,
     responses={
-        **error_responses(422),
+        **error_responses(422, compute=True),
         200: ResponseSpec(
             data_container=RunResistanceResult,
             generate_examples=False,
@@ -141,5 +143,6 @@ async def compute_run_resistance_route(
         RunResistanceRequest,
         Body(media_type=RequestEncodingType.JSON, examples=request_examples("computeRunResistance", _EXAMPLES)),
     ],
+    state: State,
 ) -> RunResistanceResult:
-    return compute_run_resistance(data)
+    return await calculate(state, compute_run_resistance, data)

@@ -2,9 +2,9 @@
 
 The handler is built per app by :func:`network_route_handlers` because its
 body limit is a setting (AMPLINE_MAX_NETWORK_BODY_BYTES): a 100,000-node grid
-is several megabytes, far above the service's general 1 MiB limit.  Small
-networks are solved on the event loop; big ones in a worker thread, so that a
-long solve does not stall health probes (see IN_LOOP_ELEMENTS).
+is several megabytes, far above the service's general 1 MiB limit.  Every
+solve runs on the compute pool (service.api.compute), within the compute
+deadline, so a long solve stalls neither health probes nor other requests.
 """
 
 from __future__ import annotations
@@ -14,13 +14,14 @@ from typing import Annotated
 import msgspec
 import numpy as np
 from litestar import post
-from litestar.concurrency import sync_to_thread
+from litestar.datastructures import State
 from litestar.enums import RequestEncodingType
 from litestar.handlers import HTTPRouteHandler
 from litestar.openapi.datastructures import ResponseSpec
 from litestar.openapi.spec import Example
 from litestar.params import Body
 
+from service.api.compute import ComputeDeadlineExceeded, calculate
 from service.api.contract import request_examples
 from service.api.metrics import observe_network_solve
 from service.api.network_input import CableUse, ParsedNetwork, element_count, explain, terminals, to_network
@@ -31,6 +32,7 @@ from service.api.schemas.v1.common import GENERAL_CAUTIONS, CalculationNotes, St
 from service.api.settings import Settings
 from service.core.network import (
     ArrayElementResult,
+    DeadlineExceededError,
     NetworkError,
     Phasor,
     Solution,
@@ -38,10 +40,6 @@ from service.core.network import (
     solve,
 )
 
-# Below this many elements a network is solved on the event loop itself: the solve takes a few milliseconds,
-# less than handing it to a worker thread costs (measured 2-5 ms on the 2-core target, GIL hand-over included).
-# Bigger networks go to a thread so that probes and small requests keep being answered meanwhile.
-IN_LOOP_ELEMENTS = 20_000
 # Steps listed one by one for at most this many cable runs / Thevenin pairs (the rest are summarised).
 STEPS_SHOWN = 20
 DEAD_ENDS_SHOWN = 10
@@ -55,6 +53,8 @@ def solve_network(req: s.NetworkSolveRequest, settings: Settings) -> s.NetworkSo
         with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
             sol = solve(parsed.network, parsed.options)
             return _result(req, parsed, sol)  # element records are built lazily, so inside the guard too
+    except DeadlineExceededError as err:  # the solver's own deadline (the compute deadline): same answer as the pool's
+        raise ComputeDeadlineExceeded(settings.compute_deadline_s, waiting=False) from err
     except NetworkError as err:
         raise explain(err, req) from err
 
@@ -374,7 +374,7 @@ def network_route_handlers(settings: Settings) -> list[HTTPRouteHandler]:
         status_code=200,
         request_max_body_size=settings.max_network_body_bytes,
         responses={
-            **error_responses(422),
+            **error_responses(422, compute=True),
             200: ResponseSpec(
                 data_container=s.NetworkSolveResult,
                 generate_examples=False,
@@ -386,12 +386,10 @@ def network_route_handlers(settings: Settings) -> list[HTTPRouteHandler]:
     )
     async def solve_network_route(
         data: Annotated[s.NetworkSolveRequest, Body(media_type=RequestEncodingType.JSON, examples=_REQUEST_EXAMPLES)],
+        state: State,
     ) -> s.NetworkSolveResult:
         elements = element_count(data)
-        if elements < IN_LOOP_ELEMENTS:
-            result = solve_network(data, settings)
-        else:
-            result = await sync_to_thread(solve_network, data, settings)
+        result = await calculate(state, solve_network, data, settings)
         if settings.metrics_enabled:  # here, not in solve_network, which also computes the contract's examples
             observe_network_solve(result.analysis, result.iterations, result.node_count, elements)
         return result

@@ -1,4 +1,4 @@
-"""Conductor sizing endpoints: POST /v1/conductors/size and POST /v1/conductors/verify (IEC 60364)."""
+"""Conductor sizing endpoints: POST /v1/conductors/size and POST /v1/conductors/verify (IEC 60364 or NEC)."""
 
 from __future__ import annotations
 
@@ -6,18 +6,23 @@ from typing import Annotated
 
 import msgspec
 from litestar import post
+from litestar.datastructures import State
 from litestar.enums import RequestEncodingType
 from litestar.openapi.datastructures import ResponseSpec
 from litestar.openapi.spec import Example
 from litestar.params import Body
 
+from service.api.compute import calculate
 from service.api.contract import request_examples
 from service.api.problems import error_responses
 from service.api.routes.v1.conductors import source_refs
 from service.api.schemas.v1 import sizing as s
 from service.api.schemas.v1.common import GENERAL_CAUTIONS, CalculationNotes, Step
+from service.api.nec_input import to_nec_input
+from service.api.routes.v1.raceways import fill_out
 from service.api.sizing_input import to_sizing_input
 from service.core import sizing as core
+from service.core.sizing.regimes import sizing_regime
 
 SIZE_ID = "sizeConductor"
 VERIFY_ID = "verifyConductor"
@@ -32,7 +37,8 @@ def _size_out(ev: core.SizeEvaluation) -> s.SizeOut:
         earth_fault_current_a=ev.earth_fault_current_a, r1_ohm=ev.r1_ohm, r2_ohm=ev.r2_ohm,
         metal_mass_kg=ev.metal_mass_kg, passes=ev.passes, failing_checks=list(ev.failing),
         checks=[s.CheckOut(name=c.name, passes=c.passes, value=c.value, limit=c.limit, unit=c.unit,
-                           condition=c.condition, source=c.source, detail=c.detail) for c in ev.checks],
+                           condition=c.condition, source=c.source, detail=c.detail, obligation=c.obligation)
+                for c in ev.checks],
     )
 
 
@@ -50,6 +56,7 @@ def sizing_out(r: core.SizingResult) -> s.SizingResult:
         disconnection_time_source=r.disconnection_source,
         chosen=None if r.chosen is None else _size_out(r.chosen), governing_check=r.governing_check,
         rejected=[_size_out(ev) for ev in r.rejected], binding_checks=list(r.binding_checks), ways_out=list(r.ways_out),
+        raceway=None if r.raceway is None else fill_out(r.raceway),
         notes=CalculationNotes(
             steps=[Step(name=st.name, formula=st.formula, value=st.value, unit=st.unit, source=st.source) for st in r.steps],
             assumptions=list(r.assumptions),
@@ -59,14 +66,18 @@ def sizing_out(r: core.SizingResult) -> s.SizingResult:
     )
 
 
+# Each regime's edge: request -> (the regime's input, the size to verify as the regime designates it).
+_EDGES = {"iec60364": to_sizing_input, "nec": to_nec_input}
+
+
 def compute_size(data: s.SizingRequest) -> s.SizingResult:
-    spec, _ = to_sizing_input(data)
-    return sizing_out(core.size_conductor(spec))
+    spec, _ = _EDGES[data.regime](data)
+    return sizing_out(sizing_regime(data.regime).size(spec))
 
 
 def compute_verify(data: s.VerifyRequest) -> s.SizingResult:
-    spec, area = to_sizing_input(data)
-    return sizing_out(core.verify_conductor(spec, area))
+    spec, size = _EDGES[data.regime](data)
+    return sizing_out(sizing_regime(data.regime).verify(spec, size))
 
 
 _SIZE_EXAMPLES = {
@@ -90,6 +101,19 @@ _SIZE_EXAMPLES = {
         supply=s.SupplyIn(earthing="TT", ze="21 ohm", electrode_resistance="60 ohm"),
         limits=s.LimitsIn(upstream_drop=1.0)),
 }
+_NEC_SIZE_EXAMPLES = {
+    "NEC: Texas dental clinic feeder, 480Y/277 V, 150 A (120 A continuous), 180 ft in EMT at 40 °C": s.SizingRequest(
+        regime="nec",
+        load=s.LoadIn(design_current="150 A", continuous_share=0.8, power_factor=0.9),
+        circuit=s.CircuitIn(length="180 ft", raceway="emt", ambient_temperature="40 degC", role="feeder"),
+        supply=s.SupplyIn(system="480Y/277V")),
+    "NEC: Vermont barn sub-panel, 240 V, 60 A non-continuous, 250 ft of aluminium XHHW-2 in PVC": s.SizingRequest(
+        regime="nec",
+        load=s.LoadIn(design_current="60 A", continuous_share=0.0),
+        circuit=s.CircuitIn(length="250 ft", material="aluminium", conductor_type="XHHW-2", raceway="pvc_40",
+                            role="feeder"),
+        supply=s.SupplyIn(system="240V"), limits=s.LimitsIn(upstream_drop=1.0)),
+}
 _VERIFY_EXAMPLES = {
     "Café kitchen circuit: 2.5 mm² on a 20 A type B, 32 m, grouped with 3 others": s.VerifyRequest(
         load=s.LoadIn(design_current="18 A"),
@@ -105,21 +129,38 @@ _VERIFY_EXAMPLES = {
         supply=s.SupplyIn(ze="0.2 ohm", prospective_fault_current="8 kA"),
         limits=s.LimitsIn(upstream_drop=1.5)),
 }
+_NEC_VERIFY_EXAMPLES = {
+    "NEC: warehouse lighting branch, 277 V, 16 A continuous on 12 AWG THHN, 20 A breaker, 210 ft in EMT": s.VerifyRequest(
+        regime="nec",
+        load=s.LoadIn(design_current="16 A", continuous_share=1.0),
+        circuit=s.VerifyCircuitIn(length="210 ft", size="12 AWG", raceway="emt", current_carrying_conductors=6),
+        protection=s.ProtectionIn(device=s.DeviceIn(rated_current="20 A")),
+        supply=s.SupplyIn(system="277V")),
+}
 
 _DESCRIPTION_COMMON = (
-    " Steps: design current Ib; device rating In (given, or the smallest standard rating >= Ib); correction factors "
+    " Regime iec60364 (the default), steps: design current Ib; device rating In (given, or the smallest standard rating >= Ib); correction factors "
     "for ambient (IEC 60364-5-52 Tables B.52.14/B.52.15), grouping (B.52.17 to B.52.19), thermal insulation and soil "
     "(B.52.16); the tabulated capacity (Annex B, Tables B.52.2 to B.52.5, B.52.10, B.52.12); overload coordination "
     "Ib <= In <= Iz and I2 <= 1.45 Iz (IEC 60364-4-43 433.1); the voltage drop and the earth-fault loop impedance "
     "Zs = Ze + R1 + R2 from the network solver, against Table G.52.1 and the device's maximum Zs for the disconnection "
     "time of IEC 60364-4-41; the adiabatic check of the protective and line conductors. A design that does not comply "
     "is a verdict in a 200 answer; a 422 means the inputs contradict each other or admit no answer."
+    " Regime nec (NFPA 70-2023), the same response: load current and its continuous part; the device at least 125 % "
+    "of the continuous plus the non-continuous load (210.20(A), 215.3; Table 240.6(A) ratings); the termination "
+    "column of 110.14(C) against 125 % of the continuous load (210.19(A)(1)(a), 215.2(A)(1)(a)); Table 310.16 "
+    "ampacity at the insulation's rating corrected for ambient (Table 310.15(B)(1)(1)) and adjusted for more than "
+    "three current-carrying conductors (Table 310.15(C)(1)); overcurrent protection with 240.4(B) and the limits "
+    "of 240.4(D); the EGC of Table 250.122, increased per 250.122(B) when the line is upsized; voltage drop from the "
+    "network solver with Chapter 9 Table 9 R and X (checks marked guidance: 3 % for the circuit, 5 % with the "
+    "feeder); and, with a raceway, the smallest trade size by Chapter 9 Tables 1, 4 and 5. A field of the other "
+    "regime is refused with a 422 naming it."
 )
 
 
 def _responses(compute, examples) -> dict:
     return {
-        **error_responses(422),
+        **error_responses(422, compute=True),
         200: ResponseSpec(
             data_container=s.SizingResult, generate_examples=False,
             description="The verdict, every check with its numbers and source, and the notes.",
@@ -131,36 +172,40 @@ def _responses(compute, examples) -> dict:
 @post(
     "/conductors/size",
     operation_id=SIZE_ID,
-    summary="Choose the conductor size for a circuit (IEC 60364)",
+    summary="Choose the conductor size for a circuit (IEC 60364 or NEC)",
     description=("The smallest conductor size that passes every check, the check that governed it, and every smaller "
                  "size with the check it fails; when no tabulated size passes, the binding checks and ways out."
                  + _DESCRIPTION_COMMON),
     status_code=200,
-    responses=_responses(compute_size, _SIZE_EXAMPLES),
+    responses=_responses(compute_size, {**_SIZE_EXAMPLES, **_NEC_SIZE_EXAMPLES}),
     tags=["sizing"],
 )
 async def size_conductor_route(
     data: Annotated[s.SizingRequest, Body(media_type=RequestEncodingType.JSON,
-                                          examples=request_examples(SIZE_ID, _SIZE_EXAMPLES))],
+                                          examples=request_examples(SIZE_ID, {**_SIZE_EXAMPLES,
+                                                                                  **_NEC_SIZE_EXAMPLES}))],
+    state: State,
 ) -> s.SizingResult:
-    return compute_size(data)
+    return await calculate(state, compute_size, data)
 
 
 @post(
     "/conductors/verify",
     operation_id=VERIFY_ID,
-    summary="Verify a chosen conductor size and device (IEC 60364)",
+    summary="Verify a chosen conductor size and device (IEC 60364 or NEC)",
     description=("Every check on the size given (and the device given, or the one the service picks), each passing or "
                  "failing with its numbers, and the overall verdict." + _DESCRIPTION_COMMON),
     status_code=200,
-    responses=_responses(compute_verify, _VERIFY_EXAMPLES),
+    responses=_responses(compute_verify, {**_VERIFY_EXAMPLES, **_NEC_VERIFY_EXAMPLES}),
     tags=["sizing"],
 )
 async def verify_conductor_route(
     data: Annotated[s.VerifyRequest, Body(media_type=RequestEncodingType.JSON,
-                                          examples=request_examples(VERIFY_ID, _VERIFY_EXAMPLES))],
+                                          examples=request_examples(VERIFY_ID, {**_VERIFY_EXAMPLES,
+                                                                                      **_NEC_VERIFY_EXAMPLES}))],
+    state: State,
 ) -> s.SizingResult:
-    return compute_verify(data)
+    return await calculate(state, compute_verify, data)
 
 
 sizing_route_handlers = [size_conductor_route, verify_conductor_route]

@@ -31,8 +31,6 @@ from service.units import (
     VOLTAGE,
 )
 
-MAX_LEADS = 50
-MAX_APPLIANCES = 100
 Name = Annotated[str, Meta(min_length=1, max_length=80, description="A label of your own, echoed in the answer.")]
 
 
@@ -126,8 +124,10 @@ class LimitsIn(Strict):
 
 class LeadChainRequest(Strict, kw_only=True):
     supply: SupplyIn
-    leads: Annotated[list[LeadIn], Meta(max_length=MAX_LEADS, description="From the socket outwards.")]
-    appliances: Annotated[list[ApplianceIn], Meta(max_length=MAX_APPLIANCES)] = []
+    leads: Annotated[list[LeadIn], Meta(description=(
+        "From the socket outwards; at most AMPLINE_MAX_CHAIN_LEADS (default 50), more gets 422."))]
+    appliances: Annotated[list[ApplianceIn], Meta(description=(
+        "At most AMPLINE_MAX_CHAIN_APPLIANCES (default 100), more gets 422."))] = []
     limits: LimitsIn = LimitsIn()
 
 

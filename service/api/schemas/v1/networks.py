@@ -45,8 +45,6 @@ from service.units import (
     VOLTAGE,
 )
 
-# A Thevenin equivalent costs one extra solve each; more than this is a batch job.
-MAX_THEVENIN_PAIRS = 20
 # Integer labels of array elements; generous, but bounded so they fit int64 arithmetic.
 MAX_NODE_LABEL = 2**40
 
@@ -199,8 +197,8 @@ class NodePairIn(Strict):
 
 class SolveOptionsIn(Strict):
     thevenin_between: Annotated[list[NodePairIn], Meta(
-        max_length=MAX_THEVENIN_PAIRS,
-        description="Node pairs (a, b) between which to report the Thevenin equivalent of the solved network.",
+        description=("Node pairs (a, b) between which to report the Thevenin equivalent of the solved network; at "
+                     "most AMPLINE_MAX_THEVENIN_PAIRS (default 20), more gets 422."),
     )] = []
     on_load_undervoltage: Annotated[Literal["error", "constant_impedance"], Meta(description=(
         "A constant-power or constant-current load that would sit below 0.7 of its rated voltage: \"error\" refuses "

@@ -1,0 +1,83 @@
+"""Who may call: API keys (optional) and the per-caller rate limit, before any route runs.
+
+Probes are always let through (an orchestrator has no key); /metrics too unless
+AMPLINE_METRICS_REQUIRE_KEY.  Refusals are raised as HTTP exceptions, so they
+come out as problem+json like every other error (and carry CORS headers for
+browser apps).  The presented key is never logged or echoed: only the label of
+the hash it matched is bound to the request's log line.
+"""
+
+from __future__ import annotations
+
+import structlog
+from litestar.exceptions import HTTPException
+from litestar.middleware.base import DefineMiddleware
+from litestar.types import ASGIApp, Receive, Scope, Send
+
+from service.api.keys import BEARER_TOKEN, KeyRing
+from service.api.metrics import METRICS_PATH
+from service.api.ratelimit import RateLimiter, retry_after_header
+from service.api.settings import Settings
+
+PROBE_PATHS = frozenset({"/healthz", "/readyz"})
+_CHALLENGE = 'Bearer realm="ampline"'
+
+
+def _bearer_token(scope: Scope) -> str | None:
+    """The token of ``Authorization: Bearer <token>``; None when absent; "" when malformed."""
+    values = [v for k, v in scope.get("headers", ()) if k == b"authorization"]
+    if not values:
+        return None
+    scheme, _, token = values[0].decode("latin-1").strip().partition(" ")
+    token = token.strip()
+    if len(values) > 1 or scheme.lower() != "bearer" or not BEARER_TOKEN.match(token):
+        return ""
+    return token
+
+
+def _caller(scope: Scope, keys: KeyRing) -> tuple[str, HTTPException | None]:
+    """Who is calling (for the rate limit), and the refusal if the key does not let them in."""
+    client = scope.get("client")
+    address = f"address:{client[0] if client else 'unknown'}"
+    if not keys.enabled:
+        return address, None
+    token = _bearer_token(scope)
+    if token is None:
+        return address, HTTPException(status_code=401, detail="Send an API key: Authorization: Bearer <key>.",
+                                      headers={"WWW-Authenticate": _CHALLENGE})
+    if token == "":
+        return address, HTTPException(status_code=401, detail="The Authorization header must be 'Bearer <key>'.",
+                                      headers={"WWW-Authenticate": f'{_CHALLENGE}, error="invalid_request"'})
+    label = keys.match(token)
+    if label is None:  # unknown keys share their address's bucket, so guessing is rate limited too
+        return address, HTTPException(status_code=403, detail="This API key is not accepted here.")
+    return f"key:{label}", None
+
+
+def access_guard(app: ASGIApp, keys: KeyRing, limiter: RateLimiter | None, metrics_require_key: bool) -> ASGIApp:
+    async def guard(scope: Scope, receive: Receive, send: Send) -> None:
+        path = scope.get("path", "")
+        if scope["type"] != "http" or path in PROBE_PATHS or (path == METRICS_PATH and not metrics_require_key):
+            await app(scope, receive, send)
+            return
+        caller, refusal = _caller(scope, keys)
+        structlog.contextvars.bind_contextvars(caller=caller)
+        if limiter is not None and (wait := limiter.take(caller)) > 0:
+            raise HTTPException(status_code=429, detail="Too many requests from this caller; retry later.",
+                                headers={"Retry-After": retry_after_header(wait)})
+        if refusal is not None:
+            raise refusal
+        await app(scope, receive, send)
+
+    return guard
+
+
+def access_middleware(settings: Settings) -> DefineMiddleware | None:
+    """The guard for an app, or None when neither keys nor a rate limit are configured."""
+    keys = KeyRing.from_settings(settings)
+    limiter = None
+    if settings.rate_limit_requests:
+        limiter = RateLimiter(settings.rate_limit_requests, settings.rate_limit_window_s, settings.rate_limit_clients)
+    if not keys.enabled and limiter is None:
+        return None
+    return DefineMiddleware(access_guard, keys=keys, limiter=limiter, metrics_require_key=settings.metrics_require_key)

@@ -1,0 +1,93 @@
+"""The edge of NEC sizing and of raceway fill: request -> core NEC inputs, every bad field named at once."""
+
+from __future__ import annotations
+
+from service.api.inputs import FieldReader
+from service.api.schemas.v1 import raceways as r
+from service.api.schemas.v1 import sizing as s
+from service.api.sizing_input import check_protective_mode, regime_fields
+from service.core.sizing.nec import SYSTEMS, FillConductor, NecCircuit, NecLoad, NecSizingInput
+from service.units import CURRENT, FREQUENCY, LENGTH, POWER, TEMPERATURE
+
+NEC_FREQUENCY_HZ = 60.0  # Chapter 9 Table 9 holds 60 Hz values only
+
+
+def _size_label(reader: FieldReader, value: float | str, *path: str | int) -> str:
+    """An AWG/kcmil size as the library labels it ("12 AWG", "250 kcmil"); metric sizes are refused."""
+    size = reader.size(value, *path)
+    if size.system == "metric":
+        reader.add("the NEC regime takes AWG or kcmil sizes (\"12 AWG\", \"250 kcmil\")", *path)
+    return size.label()
+
+
+def _load(reader: FieldReader, load: s.LoadIn, system: str | None) -> NecLoad:
+    if (load.design_current is None) == (load.power is None):
+        reader.add("give either design_current or power (with power_factor), not both and not neither", "load")
+    if load.voltage is not None:
+        reader.add("the NEC regime takes the voltage from supply.system", "load", "voltage")
+    if load.phases is not None and system in SYSTEMS and load.phases != SYSTEMS[system].phases:
+        reader.add(f"supply.system {system} is {SYSTEMS[system].phases}-phase", "load", "phases")
+    return NecLoad(
+        design_current_a=None if load.design_current is None else reader.quantity(load.design_current, CURRENT, "load",
+                                                                                   "design_current"),
+        power_w=None if load.power is None else reader.quantity(load.power, POWER, "load", "power"),
+        power_factor=load.power_factor, efficiency=load.efficiency, continuous_share=load.continuous_share,
+    )
+
+
+def _circuit(reader: FieldReader, c: s.CircuitIn) -> NecCircuit:
+    return NecCircuit(
+        length_m=reader.quantity(c.length, LENGTH, "circuit", "length"),
+        material=c.material,
+        conductor_type=c.conductor_type or "THHN",
+        insulation_rating_c=c.insulation_rating,
+        termination_rating_c=c.termination_rating,
+        ambient_c=None if c.ambient_temperature is None else reader.quantity(c.ambient_temperature, TEMPERATURE,
+                                                                             "circuit", "ambient_temperature"),
+        raceway=c.raceway,
+        current_carrying_conductors=c.current_carrying_conductors,
+        neutral=c.neutral,
+        role=c.role or "branch",
+        installation=c.installation or "raceway_or_cable",
+    )
+
+
+def to_nec_input(req: s.SizingRequest | s.VerifyRequest) -> tuple[NecSizingInput, str | None]:
+    """The request as the NEC regime's input (and the size to verify, by its label); RequestInvalid (422) names every bad field."""
+    reader = FieldReader()
+    regime_fields(reader, req)
+    system = req.supply.system
+    if system is None:
+        reader.add("required for regime nec: the nominal system (120V, 240V, 277V, 208Y/120V, 480Y/277V)",
+                   "supply", "system")
+    if req.supply.frequency is not None and reader.quantity(req.supply.frequency, FREQUENCY, "supply",
+                                                            "frequency") != NEC_FREQUENCY_HZ:
+        reader.add("the NEC regime uses Chapter 9 Table 9, which is for 60 Hz", "supply", "frequency")
+    pc = req.protective_conductor
+    mode = pc.mode or "minimum"
+    check_protective_mode(reader, mode, pc)
+    egc_size = None if pc.size is None else _size_label(reader, pc.size, "protective_conductor", "size")
+    rated = req.protection.device.rated_current
+    spec = NecSizingInput(
+        load=_load(reader, req.load, system),
+        circuit=_circuit(reader, req.circuit),
+        system=system or "120V",
+        rated_current_a=None if rated is None else reader.quantity(rated, CURRENT, "protection", "device", "rated_current"),
+        drop_limit_pct=req.limits.voltage_drop,
+        upstream_drop_pct=req.limits.upstream_drop,
+        egc_mode=mode,
+        egc_size_label=egc_size,
+    )
+    size = None
+    if isinstance(req.circuit, s.VerifyCircuitIn):
+        size = _size_label(reader, req.circuit.size, "circuit", "size")
+    reader.done()
+    return spec, size
+
+
+def to_fill_conductors(req: r.RacewayFillRequest) -> tuple[FillConductor, ...]:
+    reader = FieldReader()
+    found = tuple(FillConductor(c.type, _size_label(reader, c.size, "conductors", k, "size"), c.count)
+                  for k, c in enumerate(req.conductors))
+    reader.done()
+    return found

@@ -1,0 +1,36 @@
+"""What one NEC sizing request fixes for every candidate size, and the candidates themselves."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from service.core.conductors import Conductor
+from service.core.steps import Step
+
+from ..model import Device
+from .model import NecSizingInput, System
+from .rules import Derating, LoadSplit
+
+
+@dataclass(frozen=True, slots=True)
+class Candidate:
+    line: Conductor
+    insulation_a: float  # Table 310.16 at the insulation's rating
+    termination_a: float  # Table 310.16 at the termination column
+
+
+@dataclass(frozen=True, slots=True)
+class Plan:
+    """What one request fixes for every candidate size."""
+
+    spec: NecSizingInput
+    system: System
+    load: LoadSplit
+    device: Device
+    insulation_c: int
+    termination_c: int
+    derate: Derating
+    conductors: int
+    impedance_group: str
+    drop_limit_pct: float
+    steps: tuple[Step, ...]
