@@ -56,7 +56,17 @@ class ComputePool:
             raise ComputeDeadlineExceeded(self.deadline_s, waiting=work.cancelled()) from None
 
 
-async def calculate(state: State, fn: Callable[..., T], *args: object) -> T:
-    """Run ``fn(*args)`` on the app's compute pool (what every compute route calls)."""
+async def calculate(state: State, fn: Callable[..., T], *args: object, inline: bool = False) -> T:
+    """Run ``fn(*args)`` on the app's compute pool (what every compute route calls), or here when ``inline``.
+
+    ``inline`` is for work whose size the input limits bound to a few tens of milliseconds (a default-size
+    lead chain at its largest measured 15 ms, a sizing a few ms, a small network).  Handing such work to a
+    thread doubled its CPU cost under concurrent load (GIL hand-overs between the event loop and the compute
+    threads: a lead chain cost 10-14 ms of server CPU from the pool against 6 ms inline, load_tests/load.py,
+    8 users), for no gain: it ends long before any deadline.  Work that can run long (big networks) goes to
+    the pool; the network solver also checks the deadline itself, inline or not.
+    """
+    if inline:
+        return fn(*args)
     pool: ComputePool = state.compute
     return await pool.run(fn, *args)

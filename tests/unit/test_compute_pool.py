@@ -65,3 +65,29 @@ def test_a_calculation_past_the_deadline_is_refused_and_the_queued_one_never_sta
     finally:
         release.set()
         pool.shutdown()
+
+
+def test_calculate_runs_bounded_work_inline_and_the_rest_on_the_pool():
+    from litestar.datastructures import State
+
+    from service.api.compute import calculate
+
+    pool = ComputePool(Settings())
+    state = State({"compute": pool})
+    here = threading.current_thread().name
+    try:
+        assert run(calculate(state, lambda: threading.current_thread().name, inline=True)) == here
+        assert run(calculate(state, lambda: threading.current_thread().name)).startswith("ampline-compute")
+    finally:
+        pool.shutdown()
+
+
+def test_routes_send_big_networks_and_big_chains_to_the_pool():
+    # The thresholds follow the default input limits: a default-size chain, or a network under 2,000 elements,
+    # is bounded to tens of milliseconds; anything bigger must be cut off by the deadline.
+    from service.api.routes.v1.chains import INLINE_CHAIN_ITEMS
+    from service.api.routes.v1.networks import INLINE_ELEMENTS
+
+    defaults = Settings()
+    assert INLINE_CHAIN_ITEMS == defaults.max_chain_leads + defaults.max_chain_appliances
+    assert INLINE_ELEMENTS <= 2_000

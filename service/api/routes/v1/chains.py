@@ -22,6 +22,9 @@ from service.api.schemas.v1 import chains as s
 from service.api.schemas.v1.common import GENERAL_CAUTIONS, CalculationNotes, Step
 from service.core.chains import ChainReport, analyse_chain
 
+# Leads plus appliances up to which a chain is analysed on the event loop (the default limits: 50 + 100).
+INLINE_CHAIN_ITEMS = 150
+
 CHAIN_CAUTIONS = (
     "Temporary supplies need RCD protection: plug the chain into a 30 mA RCD-protected socket or use a portable RCD.",
     "Unwind cable reels fully before connecting heavy loads: a wound drum traps heat and can melt the cable.",
@@ -182,4 +185,5 @@ async def analyse_lead_chain(
     state: State,
 ) -> s.LeadChainResult:
     refuse_long_chain(len(data.leads), len(data.appliances), state.settings)
-    return await calculate(state, analyse, data)
+    # Inline while the chain is no bigger than the default limits allow (an operator may raise them).
+    return await calculate(state, analyse, data, inline=len(data.leads) + len(data.appliances) <= INLINE_CHAIN_ITEMS)

@@ -145,4 +145,4 @@ async def compute_run_resistance_route(
     ],
     state: State,
 ) -> RunResistanceResult:
-    return await calculate(state, compute_run_resistance, data)
+    return await calculate(state, compute_run_resistance, data, inline=True)

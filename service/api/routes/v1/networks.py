@@ -40,6 +40,11 @@ from service.core.network import (
     solve,
 )
 
+# Below this many elements a network is solved on the event loop: such a solve takes tens of milliseconds at
+# most (a 1,862-element grid of separate resistors: 24 ms), and a
+# thread hand-over would double its CPU cost under load (service/api/compute.py). Bigger ones go to the
+# compute pool so that probes and small requests keep being answered during a long solve.
+INLINE_ELEMENTS = 2_000
 # Steps listed one by one for at most this many cable runs / Thevenin pairs (the rest are summarised).
 STEPS_SHOWN = 20
 DEAD_ENDS_SHOWN = 10
@@ -389,7 +394,7 @@ def network_route_handlers(settings: Settings) -> list[HTTPRouteHandler]:
         state: State,
     ) -> s.NetworkSolveResult:
         elements = element_count(data)
-        result = await calculate(state, solve_network, data, settings)
+        result = await calculate(state, solve_network, data, settings, inline=elements < INLINE_ELEMENTS)
         if settings.metrics_enabled:  # here, not in solve_network, which also computes the contract's examples
             observe_network_solve(result.analysis, result.iterations, result.node_count, elements)
         return result

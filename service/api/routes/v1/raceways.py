@@ -87,4 +87,4 @@ async def raceway_fill_route(
     state: State,
 ) -> r.RacewayFillResult:
     refuse_many_fill_groups(len(data.conductors), state.settings)
-    return await calculate(state, compute_fill, data)
+    return await calculate(state, compute_fill, data, inline=True)

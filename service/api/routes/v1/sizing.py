@@ -186,7 +186,7 @@ async def size_conductor_route(
                                                                                   **_NEC_SIZE_EXAMPLES}))],
     state: State,
 ) -> s.SizingResult:
-    return await calculate(state, compute_size, data)
+    return await calculate(state, compute_size, data, inline=True)
 
 
 @post(
@@ -205,7 +205,7 @@ async def verify_conductor_route(
                                                                                       **_NEC_VERIFY_EXAMPLES}))],
     state: State,
 ) -> s.SizingResult:
-    return await calculate(state, compute_verify, data)
+    return await calculate(state, compute_verify, data, inline=True)
 
 
 sizing_route_handlers = [size_conductor_route, verify_conductor_route]
