@@ -106,4 +106,9 @@ def test_chosen_size_never_decreases_as_conditions_worsen(spec, what, factor):
         # protective conductor's I²t requirement grows as the length shrinks (IEC 60364-5-54, 543.1.2). Only
         # the other checks (capacity, drop, loop impedance) are monotonic in length.
         return
+    if r.disconnection_time_s != r_worse.disconnection_time_s:
+        # Not an invariant, by the standard: a larger load can move the circuit past 32 A, where the maximum
+        # disconnection time goes from Table 41.1's 0.4 s (TN, 230 V) to 5 s (IEC 60364-4-41:2005, 411.3.2.2
+        # and 411.3.2.3), so the loop-impedance limit relaxes and a smaller size may pass.
+        return
     assert _index(r_worse, worse) >= _index(r, spec)
