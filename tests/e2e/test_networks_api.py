@@ -246,6 +246,25 @@ def test_ac_thevenin_at_the_end_of_a_cable_is_source_plus_cable_impedance(client
     assert len(body["thevenin"]) == 2 and body["thevenin"][1]["a"] == "origin"
 
 
+def test_source_side_loop_disconnects_the_loads_and_keeps_the_rest(client):
+    # The source-side loop between a socket's line and neutral: supply Z + cable loop, by hand (series impedances),
+    # with the load element disconnected; the Thevenin value keeps the 2 kW heater in parallel (lower: unsafe
+    # against a maximum Zs if taken for the loop). IEC 60228:2004 Table 2, 4 mm² class 2: 4.61 ohm/km at 20 °C.
+    net = {"frequency": 50, "reference_node": "N", "elements": [
+        V("supply", "origin", "N", 230, internal_resistance="0.21 ohm", internal_reactance="0.05 ohm"),
+        {"type": "cable_run", "id": "radial", "a": "origin", "b": "socket", "length": "17 m", "size": "4 mm^2",
+         "go_and_return": True},
+        {"type": "load", "id": "heater", "a": "socket", "b": "N", "rated_power": "2 kW", "rated_voltage": "230 V"}],
+        "options": {"thevenin_between": [{"a": "socket", "b": "N"}]}}
+    th = ok(client.post(SOLVE, json=net))["thevenin"][0]
+    loop = complex(0.21 + 4.61e-3 * (CU_K + 70) / (CU_K + 20) * 34, 0.05)
+    assert complex(th["source_loop_resistance_ohm"], th["source_loop_reactance_ohm"]) == pytest.approx(loop, rel=1e-12)
+    assert th["source_loop_impedance_ohm"] == pytest.approx(abs(loop), rel=1e-12)
+    heater = 230.0**2 / 2000.0
+    assert th["impedance_ohm"] == pytest.approx(abs(1 / (1 / loop + 1 / heater)), rel=1e-9)
+    assert th["impedance_ohm"] < th["source_loop_impedance_ohm"]
+
+
 def test_rlc_impedance_forms_and_frequency(client):
     # Series R-L-C across a source: I = E / (R + j(wL - 1/(wC))), worked by hand.
     rlc = {"type": "impedance", "id": "Z", "a": "1", "b": "0", "resistance": 8, "inductance": "30 mH", "capacitance": "220 uF"}

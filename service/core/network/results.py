@@ -153,7 +153,13 @@ class PowerTotals:
 
 @dataclass(frozen=True, slots=True)
 class TheveninEquivalent:
-    """The solved network seen between nodes a and b: Voc (= v_a - v_b) behind Z."""
+    """The solved network seen between nodes a and b: Voc (= v_a - v_b) behind Z.
+
+    Z is the Thevenin impedance with every load connected: the loads are in parallel with the source path, so Z
+    is lower than the loop a fault current takes from the source.  ``source_side`` is that loop: the impedance
+    between a and b with every ``load`` element disconnected (None when a or b then has no path to the
+    reference node), the value to compare with a maximum Zs.
+    """
 
     a: str
     b: str
@@ -162,6 +168,7 @@ class TheveninEquivalent:
     reactance_ohm: float
     impedance_ohm: float  # |Z|
     short_circuit_current: Phasor | None  # Voc / Z, a -> b through the short; None if Z == 0
+    source_side: complex | None = None
 
 
 class SolvedState:

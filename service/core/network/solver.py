@@ -41,7 +41,7 @@ from .newton import port_voltage, solve_nonlinear
 from .nodes import NodeTable
 from .primitives import Primitives, with_values_of
 from .results import Layout, Solution, SolvedState, kcl_residual, kind_classes, power_totals, primitive_values
-from .thevenin import equivalents, port_values, thevenin_impedances
+from .thevenin import equivalents, port_values, source_side_impedances, thevenin_impedances
 from .topology import check_topology
 
 # A direct solve leaves KCL residuals around 1e-15 of the largest current; a
@@ -260,11 +260,14 @@ def _run(prep: PreparedNetwork, system, started: float) -> Solution:
                                    overwrite=True)
         zth = thevenin_impedances(factor, size, pairs, prims.dtype)
         voc = port_values(x, pairs)
-        thevenin = equivalents(options.thevenin_between, voc, zth)
+        loads = np.array([isinstance(e, m.Load) for e in network.elements], dtype=bool)
+        thevenin = equivalents(options.thevenin_between, voc, zth, source_side_impedances(prims, loads, pairs))
 
     numbers = [kcl, balance, mismatch if mismatch is not None else 0.0, *vars_of(totals)]
     for t in thevenin:
         numbers += [t.resistance_ohm, t.reactance_ohm, t.open_circuit_voltage.magnitude]
+        if t.source_side is not None:
+            numbers += [t.source_side.real, t.source_side.imag]
     if not (all(math.isfinite(v) for v in numbers) and _finite_magnitude(nl_current) and _finite_magnitude(powers)):
         raise NonFiniteResultError(
             "the solution contains non-finite values",

@@ -166,6 +166,9 @@ def _thevenin(sol: Solution) -> list[s.TheveninOut]:
             resistance_ohm=t.resistance_ohm, reactance_ohm=t.reactance_ohm, impedance_ohm=t.impedance_ohm,
             short_circuit_current_magnitude_a=isc.magnitude if isc else None,
             short_circuit_current_angle_deg=isc.angle_deg if isc else None,
+            source_loop_resistance_ohm=None if t.source_side is None else t.source_side.real,
+            source_loop_reactance_ohm=None if t.source_side is None else t.source_side.imag,
+            source_loop_impedance_ohm=None if t.source_side is None else abs(t.source_side),
         ))
     return out
 
@@ -207,9 +210,17 @@ def _notes(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> 
     for th in sol.thevenin[:STEPS_SHOWN]:
         steps.append(Step(
             name=f"Thevenin impedance between {th.a} and {th.b}",
-            formula="Z_th = V(a) - V(b) with 1 A injected at a and drawn at b, every source set to zero",
+            formula="Z_th = V(a) - V(b) with 1 A injected at a and drawn at b, every source set to zero "
+                    "(loads connected)",
             value=th.impedance_ohm, unit="ohm",
         ))
+        if th.source_side is not None:
+            steps.append(Step(
+                name=f"Source-side loop impedance between {th.a} and {th.b}",
+                formula="the same with every load element disconnected: the loop a fault current takes from the "
+                        "source (compare this with a maximum Zs)",
+                value=abs(th.source_side), unit="ohm",
+            ))
 
     if sol.frequency_hz:
         assumptions = [f"Sinusoidal steady state at {sol.frequency_hz:g} Hz: values are RMS phasors, angles in degrees "
@@ -234,6 +245,10 @@ def _notes(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> 
         assumptions.append("Three-phase supplies are balanced star EMFs 120° apart with L1 at 0°; the neutral "
                            "current is I1 + I2 + I3.")
 
+    if sol.thevenin:
+        assumptions.append("Thevenin equivalents are taken with every load connected (impedance_ohm), so they sit "
+                           "below the supply-and-conductor loop; the source-side loop (source_loop_impedance_ohm) "
+                           "disconnects every element of type load and keeps the rest, resistors included.")
     cautions = list(GENERAL_CAUTIONS)
     cautions.append("Steady-state currents and voltages only: fault currents, protective devices, disconnection "
                     "times, current-carrying capacity and voltage-drop limits are not assessed here.")

@@ -368,9 +368,21 @@ class TheveninOut(_Result):
     resistance_ohm: float
     reactance_ohm: float
     impedance_ohm: float
+    """|Z| of the Thevenin equivalent with every load connected (resistance_ohm + j reactance_ohm). The loads lie in
+    parallel with the source path, so this is lower than the loop impedance a fault current meets: compare
+    source_loop_impedance_ohm, not this, with a maximum Zs."""
     short_circuit_current_magnitude_a: float | None = None
-    """Voc / Z through a short from a to b; left out when Z = 0."""
+    """Voc / Z through a short from a to b with the loads connected; left out when Z = 0."""
     short_circuit_current_angle_deg: float | None = None
+    source_loop_resistance_ohm: float | None = None
+    """Resistance between a and b with every `load` element disconnected and the sources zeroed: the source-side
+    loop (supply impedance plus the conductors to a and b). Left out when a or b has no path to the reference node
+    without the loads."""
+    source_loop_reactance_ohm: float | None = None
+    """Reactance of the same source-side loop (positive inductive)."""
+    source_loop_impedance_ohm: float | None = None
+    """|Z| of the source-side loop, loads disconnected: the value to compare with a maximum earth-fault loop
+    impedance Zs. Elements other than `load` (resistors, impedances) stay connected."""
 
 
 class NetworkSolveResult(Out):
