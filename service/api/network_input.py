@@ -72,12 +72,16 @@ class CableUse:
     reactance_ohm: float
 
 
+DEFAULT_FREQUENCY_HZ = s.DEFAULT_FREQUENCY  # the analysis frequency of a request that gives none
+
+
 @dataclass(slots=True)
 class ParsedNetwork:
     network: m.Network
     options: m.SolveOptions
     cables: dict[int, CableUse] = field(default_factory=dict)  # request position -> lookup
     dead_ends: list[str] = field(default_factory=list)  # nodes named by one terminal only
+    frequency_given: bool = True  # False: the request left it out and DEFAULT_FREQUENCY_HZ was taken
 
 
 # --------------------------------------------------------------------------- limits
@@ -286,6 +290,7 @@ def to_network(req: s.NetworkSolveRequest, settings: Settings) -> ParsedNetwork:
     check_element_limit(req, settings)
     refuse_many_thevenin_pairs(len(req.options.thevenin_between), settings)  # each pair costs a solve
     reader = FieldReader()
+    given = s.frequency_given(req)
     freq = reader.quantity(req.frequency, ANALYSIS_FREQUENCY, "frequency")  # NaN if bad: checked as AC
     c = _Converter(reader, dc=freq == 0.0)
     elements = tuple(_CONVERT[type(e)](c, e, k) for k, e in enumerate(req.elements))
@@ -308,7 +313,7 @@ def to_network(req: s.NetworkSolveRequest, settings: Settings) -> ParsedNetwork:
         thevenin_between=tuple((p.a, p.b) for p in o.thevenin_between),
     )
     net = m.Network(elements=elements, frequency_hz=freq, reference_node=req.reference_node)
-    return ParsedNetwork(net, options, c.cables, _dead_ends(uses, req.reference_node, labels))
+    return ParsedNetwork(net, options, c.cables, _dead_ends(uses, req.reference_node, labels), given)
 
 
 def _dead_ends(uses: Counter, reference: str, labels: np.ndarray) -> list[str]:

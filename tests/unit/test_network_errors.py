@@ -32,6 +32,7 @@ from service.core.network import (
     Resistor,
     ResistorArray,
     SeriesRLC,
+    ResonanceError,
     SingularNetworkError,
     SolveOptions,
     Switch,
@@ -91,7 +92,6 @@ def test_unknown_node_in_thevenin_request():
         Resistor("x", "1", "2", math.nan),
         Resistor("x", "1", "2", math.inf),
         Resistor("x", "1", "2", "ten"),
-        Resistor("x", "1", "2", 5e-324),  # 1/R overflows: not representable, 0 means a short
         Impedance("x", "1", "2", -0.1, 1.0),
         Inductor("x", "1", "2", -1e-3),
         Capacitor("x", "1", "2", 0.0),
@@ -111,6 +111,15 @@ def test_non_physical_values_name_the_element(element):
     err = raises(InvalidValueError, net(V("s", "1", "0", 10.0), Resistor("r", "2", "0", 1.0), element, f=50.0))
     assert err.element_ids == ("x",)
     assert err.data["problems"][0]["element"] == "x"
+
+
+def test_subnormal_resistance_is_solved_in_impedance_form_not_refused():
+    # 5e-324 ohm: 1/R overflows double precision, but in impedance form (its current an unknown) the series
+    # circuit is exact: I = 10 V / (1 ohm + 5e-324 ohm) = 10 A through both resistors (Ohm's law).
+    sol = solve(net(V("s", "1", "0", 10.0), Resistor("x", "1", "2", 5e-324), Resistor("r", "2", "0", 1.0), f=50.0))
+    assert sol.element("x").current.magnitude == pytest.approx(10.0, rel=1e-15)
+    assert sol.element("r").current.magnitude == pytest.approx(10.0, rel=1e-15)
+    assert any("'x'" in a and "impedance form" in a for a in sol.assumptions)
 
 
 def test_all_bad_values_reported_at_once():
@@ -213,9 +222,14 @@ def test_loop_detection_scales_beyond_the_small_union_find_path():
     assert len(err.element_ids) == 50 and err.omitted_element_ids == 3000 - 50 and "v" not in err.element_ids
 
 
-def test_exact_series_resonance_across_a_source_is_singular():
+def test_exact_series_resonance_across_a_source_is_singular_and_names_the_loop():
+    # X_L = wL and X_C = 1/(wC) cancel when C = 1/(w^2 L): the loop impedance is 0 across an ideal source, so no
+    # steady state exists (series resonance, any circuits text, from memory). The loop is v, L and C.
     w = 2 * math.pi * 50.0
-    raises(SingularNetworkError, net(V("v", "1", "0", 1.0), Inductor("L", "1", "2", 1.0), Capacitor("C", "2", "0", 1 / w**2), f=50.0))
+    err = raises(ResonanceError, net(V("v", "1", "0", 1.0), Inductor("L", "1", "2", 1.0), Capacitor("C", "2", "0", 1 / w**2), f=50.0))
+    assert isinstance(err, SingularNetworkError)
+    assert set(err.element_ids) == {"v", "L", "C"}
+    assert "resonant at this frequency" in err.detail
 
 
 def test_bad_options():

@@ -108,6 +108,12 @@ class SingularNetworkError(NetworkError):
     CODE = "singular_network"
 
 
+class ResonanceError(SingularNetworkError):
+    """Inductors and capacitors that cancel exactly at the network's frequency: no sinusoidal steady state."""
+
+    CODE = "resonant_network"
+
+
 class ConvergenceError(NetworkError):
     CODE = "no_convergence"
 

@@ -134,7 +134,7 @@ def _check_frequency(net: m.Network) -> float:
     return f
 
 
-def expand(net: m.Network, guard_pu: float) -> tuple[Primitives, NodeTable, dict[str, int]]:
+def expand(net: m.Network, guard_pu: float, impedance_form_ratio: float = 1e-6) -> tuple[Primitives, NodeTable, dict[str, int]]:
     """Check the network's definition and reduce it to primitives.
 
     Returns the primitives, the node table and the element id -> position map.
@@ -224,12 +224,17 @@ def expand(net: m.Network, guard_pu: float) -> tuple[Primitives, NodeTable, dict
             node_names=[net.reference_node],
         )
 
-    return _reduce(elements, groups, table, positions, freq, guard_pu), table, positions
+    return _reduce(elements, groups, table, positions, freq, guard_pu, impedance_form_ratio), table, positions
 
 
 def _reduce(elements, groups: dict[type, list[int]], table: NodeTable, positions: dict[str, int],
-            freq: float, guard_pu: float) -> Primitives:
-    """Check values and reduce the grouped elements to primitives (the per-type handlers)."""
+            freq: float, guard_pu: float, impedance_form_ratio: float, impedance_scale: float | None = None) -> Primitives:
+    """Check values and reduce the grouped elements to primitives (the per-type handlers).
+
+    The handlers hand their impedances to ``impedance_split``, which holds them until every handler has run:
+    which of them go in impedance form depends on the network's impedance scale, the median |Z| of them all
+    (given by ``impedance_scale`` when only some elements are reduced again, see reduce_some).
+    """
     dc = freq == 0.0
     b = PrimitiveBuilder(len(elements), np.float64 if dc else np.complex128)
     problems = _Problems(positions)
@@ -237,6 +242,7 @@ def _reduce(elements, groups: dict[type, list[int]], table: NodeTable, positions
     ctx = _Ctx(elements, table, b, problems, dc, 2.0 * math.pi * freq, guard_pu, self_loops)
     for t, idx in groups.items():
         _HANDLERS[t](ctx, np.asarray(idx, dtype=np.int64))
+    scale, small = ctx.route_impedances(impedance_form_ratio, impedance_scale)
     problems.raise_if_any()
     if self_loops:
         raise InvalidValueError(
@@ -245,18 +251,21 @@ def _reduce(elements, groups: dict[type, list[int]], table: NodeTable, positions
             element_ids=self_loops,
             element_positions=positions,
         )
-    return b.build(table.size)
+    return b.build(table.size, scale, small)
 
 
 def reduce_some(net: m.Network, subset: Sequence[int], table: NodeTable, positions: dict[str, int],
-                guard_pu: float) -> Primitives:
+                guard_pu: float, impedance_form_ratio: float = 1e-6, impedance_scale: float = 1.0) -> Primitives:
     """Primitives of the elements at ``subset`` only, in a network already expanded once.
 
     For :meth:`PreparedNetwork.replace`: the elements keep their type and nodes,
     so only their values are checked again, by the same handlers in the same
     order as :func:`expand` would (groups in order of the network's first
     element of each type), hence the same errors.  Entries of the result's
-    elem_* arrays outside ``subset`` are meaningless.
+    elem_* arrays outside ``subset`` are meaningless.  The impedance scale is
+    the expanded network's, so an element keeps the form it had unless its own
+    value crosses the threshold (then the structure differs and the caller
+    prepares the network again).
     """
     elements = net.elements
     first = {t: None for t in map(type, elements)}  # group order of expand()
@@ -264,13 +273,15 @@ def reduce_some(net: m.Network, subset: Sequence[int], table: NodeTable, positio
     for i in sorted(subset):
         groups[type(elements[i])].append(i)
     groups = {t: idx for t, idx in groups.items() if idx}
-    return _reduce(elements, groups, table, positions, _check_frequency(net), guard_pu)
+    return _reduce(elements, groups, table, positions, _check_frequency(net), guard_pu, impedance_form_ratio,
+                   impedance_scale)
 
 
 class _Ctx:
-    __slots__ = ("elements", "table", "b", "problems", "dc", "omega", "guard_pu", "self_loops")
+    __slots__ = ("elements", "table", "b", "problems", "dc", "omega", "guard_pu", "self_loops", "impedances")
 
     def __init__(self, elements, table, b, problems, dc, omega, guard_pu, self_loops):
+        self.impedances: list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]] = []
         self.elements = elements
         self.table = table
         self.b = b
@@ -292,23 +303,38 @@ class _Ctx:
         return els, na, nb
 
     def impedance_split(self, idx, na, nb, z: np.ndarray) -> None:
-        """Route elements by impedance: Z == 0 -> zero-volt branch, else admittance 1/Z."""
-        short = z == 0
-        if _any(short):
-            s = short
-            zeros = np.zeros(int(s.sum()), dtype=self.b.dtype)
-            self.b.add(BRANCH, idx[s], 1, na[s], nb[s], zeros, zeros)
-            k = ~short
-            idx, na, nb, z = idx[k], na[k], nb[k], z[k]
+        """Hold elements given by impedance until every handler has run (see route_impedances)."""
         if idx.size:
-            with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
-                y = 1.0 / z
-            tiny = ~np.isfinite(y)
-            if _any(tiny):  # e.g. 1e-320 ohm: 1/Z overflows double precision
-                self.problems.flag([self.elements[i] for i in idx], tiny,
-                                   "impedance too small to represent (give exactly 0 for an ideal short)")
-                y = np.where(tiny, 1.0, y)
-            self.b.add(ADMITTANCE, idx, 1, na, nb, y)
+            self.impedances.append((idx, na, nb, np.asarray(z, dtype=self.b.dtype)))
+
+    def route_impedances(self, ratio: float, scale: float | None) -> tuple[float, tuple[int, ...]]:
+        """Route the held elements: Z == 0 -> zero-volt branch; |Z| below ``ratio`` x scale -> a branch with its Z
+        (impedance form); else admittance 1/Z.  Returns the scale and the elements put in impedance form."""
+        if scale is None:
+            mags = [np.abs(z[z != 0]) for _, _, _, z in self.impedances]
+            mags = np.concatenate(mags) if mags else np.zeros(0)
+            mags = mags[np.isfinite(mags)]
+            scale = float(np.median(mags)) if mags.size else 1.0
+        small_form: list[int] = []
+        for idx, na, nb, z in self.impedances:
+            mag = np.abs(z)
+            branch = (z == 0) | (mag < ratio * scale)
+            if _any(branch):
+                s = branch
+                self.b.add(BRANCH, idx[s], 1, na[s], nb[s], np.zeros(int(s.sum()), dtype=self.b.dtype), z[s])
+                small_form.extend(idx[s & (z != 0)].tolist())
+                k = ~branch
+                idx, na, nb, z = idx[k], na[k], nb[k], z[k]
+            if idx.size:
+                with np.errstate(divide="ignore", over="ignore", invalid="ignore"):
+                    y = 1.0 / z
+                tiny = ~np.isfinite(y)
+                if _any(tiny):  # e.g. 1e-320 ohm beside a scale as small: 1/Z overflows double precision
+                    self.problems.flag([self.elements[i] for i in idx], tiny,
+                                       "impedance too small to represent (give exactly 0 for an ideal short)")
+                    y = np.where(tiny, 1.0, y)
+                self.b.add(ADMITTANCE, idx, 1, na, nb, y)
+        return scale, tuple(sorted(small_form))
 
     def open(self, idx, na, nb) -> None:
         if idx.size:

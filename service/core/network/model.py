@@ -326,6 +326,12 @@ class SolveOptions:
       so a step in progress is finished (the overrun is at most one step) and a
       network without nonlinear loads is never stopped.  Running out before
       convergence raises DeadlineExceededError (a ConvergenceError).
+    * ``impedance_form_ratio``: an element impedance below this fraction of the network's impedance scale (the
+      median |Z| of its impedance elements) is solved in impedance form, with its current as an unknown of the
+      equations, instead of as an admittance 1/Z.  The equations are the same; the admittance form would put
+      1/Z, many orders above the rest, on the diagonal and lose the other elements' digits, and the element's
+      current would come out as a difference of two nearly equal node voltages times 1/Z.  Listed in
+      ``Solution.assumptions``.
     """
 
     max_iterations: int = 30
@@ -335,3 +341,4 @@ class SolveOptions:
     on_load_undervoltage: Literal["error", "constant_impedance"] = "error"
     thevenin_between: tuple[tuple[str, str], ...] = ()
     deadline_s: float | None = None
+    impedance_form_ratio: float = 1e-6

@@ -58,6 +58,10 @@ class Primitives:
     elem_cat: np.ndarray
     elem_start: np.ndarray
     elem_stop: np.ndarray
+    # The median |Z| of the impedance elements, and the elements whose small impedance put them in impedance form
+    # (a BRANCH with Z != 0, their current an unknown) rather than admittance form: see SolveOptions.
+    impedance_scale: float = 1.0
+    impedance_form: tuple[int, ...] = ()
 
     @property
     def m(self) -> int:
@@ -107,7 +111,7 @@ class PrimitiveBuilder:
             return [np.zeros(0, dtype=t) for t in dtypes]
         return [np.concatenate([np.asarray(p[c], dtype=dtypes[c]) for p in parts]) for c in range(ncols)]
 
-    def build(self, n: int) -> Primitives:
+    def build(self, n: int, impedance_scale: float = 1.0, impedance_form: tuple[int, ...] = ()) -> Primitives:
         i, f, d = np.int64, np.float64, self.dtype
         adm = self._cat(ADMITTANCE, 4, (i, i, d, i))
         br = self._cat(BRANCH, 5, (i, i, d, d, i))
@@ -115,7 +119,8 @@ class PrimitiveBuilder:
         nl = self._cat(NONLINEAR, 8, (i, i, d, f, f, f, d, i))
         op = self._cat(OPEN, 3, (i, i, i))
         return Primitives(
-            n, d, *adm, *br, *inj, *nl, *op, self.elem_cat, self.elem_start, self.elem_stop
+            n, d, *adm, *br, *inj, *nl, *op, self.elem_cat, self.elem_start, self.elem_stop, impedance_scale,
+            impedance_form,
         )
 
 

@@ -204,6 +204,11 @@ class Solution:
     thevenin: tuple[TheveninEquivalent, ...]
     guarded_loads: tuple[str, ...]  # loads left below the guard voltage (option "constant_impedance")
     _state: SolvedState
+    # What the solve assumed or did beyond the elements as given (impedance form), and what the caller should know
+    # about the answer's accuracy (a residual above the stated tolerance).
+    assumptions: tuple[str, ...] = ()
+    warnings: tuple[str, ...] = ()
+    relative_kcl_residual: float = 0.0  # max KCL residual / largest element current
 
     # -- nodes -----------------------------------------------------------
     def voltage(self, node: str) -> NodeVoltage:
@@ -348,6 +353,9 @@ def primitive_values(p: Primitives, layout: Layout, x: np.ndarray, nl_current: n
     xe[:n] = x[:n]
     xe[n] = 0.0  # index -1, the reference
     volts = xe[layout.a] - xe[layout.b]
+    if p.impedance_form:  # Z x I, not the difference of two nearly equal node voltages across a tiny impedance
+        rows = np.flatnonzero(np.isin(p.br_owner, p.impedance_form))
+        volts[layout.bounds[BRANCH][0] + rows] = p.br_z[rows] * x[n + rows]
     s, e = layout.bounds[ADMITTANCE]
     amps = np.concatenate([
         p.adm_y * volts[s:e], x[n:], p.inj_j, nl_current.astype(p.dtype, copy=False),

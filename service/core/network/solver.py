@@ -23,8 +23,10 @@ import time
 from functools import lru_cache
 
 import numpy as np
+import scipy.sparse as sp
 
 from . import model as m
+from .accuracy import dependent_elements, refine, stamp_norm
 from .assemble import DenseStamps, SparseSystem, amax, dense_fits, rhs_vector, system_for
 from .errors import (
     ConvergenceError,
@@ -32,6 +34,7 @@ from .errors import (
     InvalidValueError,
     LoadUndervoltageError,
     NonFiniteResultError,
+    ResonanceError,
     SingularNetworkError,
     VoltageCollapseError,
 )
@@ -48,6 +51,8 @@ from .topology import check_topology
 # residual above this fraction means the factorisation lost all accuracy
 # (numerically singular matrix, e.g. an LC pair tuned almost exactly).
 ILL_CONDITIONED = 1e-6
+# Above this KCL residual, relative to the largest element current, the answer carries an accuracy warning.
+ACCURACY_TOLERANCE = 1e-9
 
 
 def _check_options(o: m.SolveOptions) -> None:
@@ -66,6 +71,9 @@ def _check_options(o: m.SolveOptions) -> None:
     d = o.deadline_s
     if d is not None and not (isinstance(d, (int, float)) and not isinstance(d, bool) and math.isfinite(d) and d >= 0):
         bad.append("deadline_s must be None or a finite number of seconds >= 0")
+    r = o.impedance_form_ratio
+    if not (isinstance(r, (int, float)) and not isinstance(r, bool) and math.isfinite(r) and 0 <= r < 1):
+        bad.append("impedance_form_ratio must be a finite number in [0, 1)")
     if bad:
         raise InvalidValueError("; ".join(bad), how_to_fix="correct the solver options")
 
@@ -163,7 +171,8 @@ class PreparedNetwork:
         if same and changed:
             owners = np.fromiter(changed, dtype=np.int64, count=len(changed))
             guard = float(self.options.load_guard_voltage_pu)
-            sub = reduce_some(network, owners.tolist(), s.table, s.positions, guard)
+            sub = reduce_some(network, owners.tolist(), s.table, s.positions, guard,
+                              float(self.options.impedance_form_ratio), self._prims.impedance_scale)
             prims = with_values_of(self._prims, sub, owners)
             if prims is not None:
                 return PreparedNetwork(network, self.options, prims, s)
@@ -180,7 +189,7 @@ class PreparedNetwork:
 
 def _prepare(network: m.Network, options: m.SolveOptions) -> PreparedNetwork:
     _check_options(options)
-    prims, table, positions = expand(network, float(options.load_guard_voltage_pu))
+    prims, table, positions = expand(network, float(options.load_guard_voltage_pu), float(options.impedance_form_ratio))
     ids = [e.id for e in network.elements]
     structure_system = None
     if dense_fits(prims):
@@ -206,7 +215,10 @@ def _run(prep: PreparedNetwork, system, started: float) -> Solution:
     factor = None
     guarded = np.zeros(prims.nl_a.size, dtype=bool)
     if prims.nl_a.size == 0:
-        factor = system.factor(system.matrix)
+        try:
+            factor = system.factor(system.matrix)
+        except SingularNetworkError as exc:
+            raise _explained_singularity(prims, system, ids, positions, table, str(exc)) from None
         x = factor.solve(rhs)
         nl_current = np.zeros(0, dtype=prims.dtype)
         solves, converged, mismatch = 1, True, None
@@ -229,7 +241,9 @@ def _run(prep: PreparedNetwork, system, started: float) -> Solution:
         )
 
     if factor is not None and _may_cancel(prims):
-        _check_conditioning(factor, system.matrix, size, prims.dtype)
+        _check_conditioning(factor, prims, size, ids, positions, table)
+    if factor is not None:
+        x = refine(factor, system.matrix, rhs, x)
     layout = s.layout
     volts, amps = primitive_values(prims, layout, x, nl_current)
     if not (_finite_magnitude(volts) and _finite_magnitude(amps)):
@@ -251,6 +265,13 @@ def _run(prep: PreparedNetwork, system, started: float) -> Solution:
             how_to_fix="look for an LC pair in near-exact resonance or values spanning too many "
             "orders of magnitude",
         )
+    current_scale = max(amax(np.abs(amps[: layout.live])), 1e-300)
+    relative_kcl = kcl / current_scale
+    warnings = []
+    if relative_kcl > ACCURACY_TOLERANCE and kcl > options.tolerance_a:
+        warnings.append(f"accuracy: the largest KCL residual is {kcl:.3g} A, {relative_kcl:.2g} of the largest "
+                        f"element current (above the stated tolerance {ACCURACY_TOLERANCE:g}); values spanning many "
+                        "orders of magnitude limit the digits that can be trusted")
     totals, balance, powers = power_totals(prims, layout, volts, amps)
 
     thevenin = ()
@@ -288,6 +309,9 @@ def _run(prep: PreparedNetwork, system, started: float) -> Solution:
         thevenin=thevenin,
         guarded_loads=guarded_ids,
         _state=state,
+        assumptions=_impedance_form_note(prims, ids, options),
+        warnings=tuple(warnings),
+        relative_kcl_residual=float(relative_kcl),
     )
 
 
@@ -317,24 +341,64 @@ def _probe(size: int, dtype) -> np.ndarray:
     return r
 
 
-def _check_conditioning(factor, matrix, size: int, dtype) -> None:
-    """Lower bound on cond_inf(A) from one solve with a fixed pseudo-random right-hand side.
+def _check_conditioning(factor, prims: Primitives, size: int, ids, positions, table) -> None:
+    """Lower bound on ||A^-1|| ||M|| (M: the stamp magnitudes, see accuracy.py) from one probe solve.
 
     ||A^-1 r|| / ||r|| <= ||A^-1||, so a large ratio proves near-singularity;
     a random r has a component along the near-null direction with probability
-    one, so an exact resonance is not missed.  Costs one triangular solve.
+    one, so an exact resonance is not missed.  Measuring against the stamps'
+    magnitudes rather than the assembled matrix catches an inductor and a
+    capacitor that cancel to rounding residue even when that residue is all the
+    matrix holds.  Costs one triangular solve.
     """
-    r = _probe(size, dtype)
+    r = _probe(size, prims.dtype)
     z = factor.solve(r)
-    norm_a = float(abs(matrix).sum(axis=1).max())
-    bound = float(np.max(np.abs(z))) / float(np.max(np.abs(r))) * norm_a
+    bound = float(np.max(np.abs(z))) / float(np.max(np.abs(r))) * stamp_norm(prims)
     if not math.isfinite(bound) or bound > COND_LIMIT:
-        raise SingularNetworkError(
-            f"the network equations are numerically singular (condition number above {bound:.2g})",
-            how_to_fix="an inductor and a capacitor appear to be in exact resonance (series across a "
-            "source, or parallel with nothing else to define a voltage); add resistance or change the "
-            "frequency",
-        )
+        raise _resonance(prims, z, ids, positions, table, bound)
+
+
+def _resonance(prims: Primitives, z: np.ndarray, ids, positions, table, bound: float) -> SingularNetworkError:
+    involved, nodes = dependent_elements(prims, np.where(np.isfinite(z), z, 0.0), ids)
+    shown = ", ".join(repr(i) for i in involved[:10]) or "(not identified)"
+    return ResonanceError(
+        f"resonant at this frequency: no steady state. The impedances of {shown} cancel (to rounding) at the "
+        f"network's frequency, so the equations have no unique solution (||A^-1|| ||M|| >= {bound:.2g})",
+        how_to_fix="add the resistance the real components have, or solve at another frequency",
+        element_ids=involved, node_names=[table.name(k) for k in nodes[:10]], element_positions=positions,
+    )
+
+
+def _explained_singularity(prims: Primitives, system, ids, positions, table, reason: str) -> SingularNetworkError:
+    """The singular system's dependent elements, from a regularised solve whose answer is its null direction."""
+    size = prims.n + prims.m
+    sigma = 1e-9 * max(stamp_norm(prims), 1e-300)
+    shifted = system.matrix + sigma * (np.eye(size) if system.dense else sp.identity(size, format="csc"))
+    try:
+        z = system.factor(shifted).solve(_probe(size, prims.dtype))
+    except SingularNetworkError:
+        z = np.zeros(size, dtype=prims.dtype)
+    involved, nodes = dependent_elements(prims, np.where(np.isfinite(z), z, 0.0), ids)
+    if _may_cancel(prims):
+        return _resonance(prims, z, ids, positions, table, math.inf)
+    shown = ", ".join(repr(i) for i in involved[:10]) or "(not identified)"
+    return SingularNetworkError(
+        f"the network equations are singular ({reason}); the dependent set: {shown}",
+        how_to_fix="look for parts whose voltage or current is not determined, e.g. an inductor and capacitor "
+        "exactly in resonance, or ideal elements in conflict",
+        element_ids=involved, node_names=[table.name(k) for k in nodes[:10]], element_positions=positions,
+    )
+
+
+def _impedance_form_note(prims: Primitives, ids, options: m.SolveOptions) -> tuple[str, ...]:
+    if not prims.impedance_form:
+        return ()
+    shown = ", ".join(repr(ids[i]) for i in prims.impedance_form[:10])
+    more = len(prims.impedance_form) - 10
+    return (f"Impedances below {options.impedance_form_ratio:g} of the network's median impedance "
+            f"({prims.impedance_scale:.3g} ohm) were solved with their current as an unknown (impedance form), "
+            f"not as an admittance, so their currents stay exact: {shown}" + (f" and {more} more" if more > 0 else "")
+            + ".",)
 
 
 def vars_of(totals) -> list[float]:

@@ -24,7 +24,15 @@ from litestar.params import Body
 from service.api.compute import ComputeDeadlineExceeded, calculate
 from service.api.contract import request_examples
 from service.api.metrics import observe_network_solve
-from service.api.network_input import CableUse, ParsedNetwork, element_count, explain, terminals, to_network
+from service.api.network_input import (
+    DEFAULT_FREQUENCY_HZ,
+    CableUse,
+    ParsedNetwork,
+    element_count,
+    explain,
+    terminals,
+    to_network,
+)
 from service.api.problems import error_responses
 from service.api.routes.v1.conductors import source_refs
 from service.api.schemas.v1 import networks as s
@@ -45,6 +53,7 @@ from service.core.network import (
 # thread hand-over would double its CPU cost under load (service/api/compute.py). Bigger ones go to the
 # compute pool so that probes and small requests keep being answered during a long solve.
 INLINE_ELEMENTS = 2_000
+FREQUENCY_ASSUMED = f"frequency not given: {DEFAULT_FREQUENCY_HZ:g} Hz assumed"
 # Steps listed one by one for at most this many cable runs / Thevenin pairs (the rest are summarised).
 STEPS_SHOWN = 20
 DEAD_ENDS_SHOWN = 10
@@ -245,6 +254,9 @@ def _notes(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> 
         assumptions.append("Three-phase supplies are balanced star EMFs 120° apart with L1 at 0°; the neutral "
                            "current is I1 + I2 + I3.")
 
+    if not parsed.frequency_given:
+        assumptions.append(FREQUENCY_ASSUMED)
+    assumptions.extend(sol.assumptions)
     if sol.thevenin:
         assumptions.append("Thevenin equivalents are taken with every load connected (impedance_ohm), so they sit "
                            "below the supply-and-conductor loop; the source-side loop (source_loop_impedance_ohm) "
@@ -252,17 +264,26 @@ def _notes(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> 
     cautions = list(GENERAL_CAUTIONS)
     cautions.append("Steady-state currents and voltages only: fault currents, protective devices, disconnection "
                     "times, current-carrying capacity and voltage-drop limits are not assessed here.")
-    if parsed.dead_ends:
-        shown = ", ".join(repr(n) for n in parsed.dead_ends[:DEAD_ENDS_SHOWN])
-        more = len(parsed.dead_ends) - DEAD_ENDS_SHOWN
-        cautions.append(f"Node(s) named by only one element terminal (dead ends; check the spelling): {shown}"
-                        + (f" and {more} more" if more > 0 else "") + ".")
     if sol.guarded_loads:
         cautions.append("These loads would sit below 0.7 of their rated voltage and were modelled as impedances: "
                         + ", ".join(sol.guarded_loads[:DEAD_ENDS_SHOWN]) + ". Real equipment may stall or trip there.")
     tables = sorted({u.conductor.table_id for u in parsed.cables.values()})
     sources = source_refs(*tables, "conductor-materials") if tables else []
     return CalculationNotes(steps=steps, assumptions=assumptions, sources=sources, cautions=cautions)
+
+
+def _warnings(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> list[str]:
+    """What the caller should check before using the answer (also in notes where it is an assumption).
+
+    Dead ends are listed unless the request gave its nodes: then every name was checked against that list.
+    """
+    out = [] if parsed.frequency_given else [FREQUENCY_ASSUMED]
+    if parsed.dead_ends and req.nodes is None:
+        shown = ", ".join(repr(n) for n in parsed.dead_ends[:DEAD_ENDS_SHOWN])
+        more = len(parsed.dead_ends) - DEAD_ENDS_SHOWN
+        out.append(f"Node(s) named by only one element terminal (dead ends; check the spelling): {shown}"
+                   + (f" and {more} more" if more > 0 else "") + ".")
+    return out + list(sol.warnings)
 
 
 def _result(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> s.NetworkSolveResult:
@@ -297,7 +318,7 @@ def _result(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) ->
         ),
         elements=_elements(req, parsed, sol),
         thevenin=_thevenin(sol),
-        guarded_loads=list(sol.guarded_loads),
+        guarded_loads=list(sol.guarded_loads), warnings=_warnings(req, parsed, sol),
         notes=_notes(req, parsed, sol),
         node_voltages=node_objects,
         node_voltage_columns=node_columns,

@@ -213,9 +213,20 @@ class SolveOptionsIn(Strict):
         "Also return every branch's current and power for array elements, as parallel arrays."))] = False
 
 
+# One float object: msgspec fills a left-out field with this very object, and a decoded number is a new one.
+DEFAULT_FREQUENCY = float("50.0")
+
+
+def frequency_given(req: NetworkSolveRequest) -> bool:
+    """True when the request gave a frequency (even 50 Hz), False when it left it out."""
+    return req.frequency is not DEFAULT_FREQUENCY
+
+
 class NetworkSolveRequest(Strict):
     elements: Annotated[list[ElementIn], Meta(description="The network's elements, each tagged by type.")]
-    frequency: quantity(ANALYSIS_FREQUENCY, "50 Hz", 60, 0) = 50.0  # type: ignore[valid-type]
+    # Left out: 50 Hz, and the answer says so (notes.assumptions and warnings): the route tells a left-out
+    # frequency from a given one by the default object's identity (frequency_given).
+    frequency: quantity(ANALYSIS_FREQUENCY, "50 Hz", 60, 0) = DEFAULT_FREQUENCY  # type: ignore[valid-type]
     reference_node: Annotated[str, Meta(min_length=1, max_length=100, description=(
         "The 0 V node every voltage is measured from (often the neutral or the negative pole)."),
         examples=["N", "0"])] = "0"
@@ -405,6 +416,10 @@ class NetworkSolveResult(Out):
     thevenin: list[TheveninOut]
     guarded_loads: list[str]
     """Loads modelled as impedances below the guard voltage (options.on_load_undervoltage = "constant_impedance")."""
+    warnings: list[str]
+    """What the caller should check before using the answer: a default taken for a value not given (the
+    frequency), node names used by only one element terminal (often a misspelling), and any accuracy warning
+    (a KCL residual above 1e-9 of the largest element current). Empty when there is nothing to say."""
     notes: CalculationNotes
     node_voltages: list[NodeVoltageOut] | None = None
     node_voltage_columns: NodeVoltageColumns | None = None
