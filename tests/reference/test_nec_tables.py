@@ -74,6 +74,14 @@ def test_standard_ratings(t):
     assert 55 not in t.ratings and 65 not in t.ratings  # from memory: 60 follows 50, 70 follows 60
 
 
+def test_standard_ratings_15_to_600_are_the_published_list(t):
+    # NFPA 70, Table 240.6(A), 15 to 600 A as listed on builders.theknowledgegardens.com 'NEC Article 240'
+    # (stored page): nothing else lies in that range (no 55, 65, 85 ... A).
+    published = [15, 20, 25, 30, 35, 40, 45, 50, 60, 70, 80, 90, 100, 110, 125, 150, 175, 200, 225, 250, 300, 350,
+                 400, 450, 500, 600]
+    assert sorted(r for r in t.ratings if 15 <= r <= 600) == published
+
+
 @pytest.mark.parametrize("material, size, limit", [
     # NFPA 70, 240.4(D) (alanwire.com reproduction of the Table 310-16 footnote; intrysys.com 2023 note)
     ("copper", "14 AWG", 15), ("copper", "12 AWG", 20), ("copper", "10 AWG", 30),
