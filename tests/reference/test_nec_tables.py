@@ -7,6 +7,8 @@ recalled table, not to print (the data file says the same in its provenance).
 
 from __future__ import annotations
 
+import math
+
 import pytest
 
 from service.core.data import load_tables
@@ -138,6 +140,27 @@ def test_table_1(t):
 def test_table_4(t, raceway, trade, area_in2):
     found = next(s for s in t.raceways[raceway] if s.trade_size == trade)
     assert found.area_m2 / SQ_IN == pytest.approx(area_in2, rel=1e-9)
+
+
+@pytest.mark.parametrize("trade, area_in2", [
+    # NFPA 70 Chapter 9, Table 4, Article 344 RMC, total area 100 %, as reproduced in Goodheart-Willcox,
+    # Modern Commercial Wiring (2018), page 100 ('Table 4 Continued', stored online-textbook page 114)
+    ("1/2", 0.314), ("3/4", 0.549), ("1", 0.887), ("1-1/4", 1.526), ("1-1/2", 2.071), ("2", 3.408), ("2-1/2", 4.866),
+])
+def test_table_4_rmc_published(t, trade, area_in2):
+    found = next(s for s in t.raceways["rmc"] if s.trade_size == trade)
+    assert found.area_m2 / SQ_IN == pytest.approx(area_in2, rel=1e-9)
+
+
+@pytest.mark.parametrize("trade, outside_in, wall_in", [
+    # EMT nominal outside diameter and wall, Steel Tube Institute 'Electrical Metallic Tubing (EMT)' weights and
+    # dimensions (stored page); Table 4's area is that of the nominal inside diameter, pi/4 (OD - 2 wall)^2
+    ("2-1/2", 2.875, 0.072), ("3", 3.500, 0.072), ("3-1/2", 4.000, 0.083), ("4", 4.500, 0.083),
+])
+def test_table_4_large_emt_matches_the_nominal_bore(t, trade, outside_in, wall_in):
+    found = next(s for s in t.raceways["emt"] if s.trade_size == trade)
+    bore = outside_in - 2 * wall_in
+    assert found.area_m2 / SQ_IN == pytest.approx(math.pi / 4 * bore ** 2, abs=5e-4)
 
 
 def test_table_4_schedule_80_is_smaller_than_40(t):
