@@ -54,6 +54,21 @@ def test_ambient_correction(t, rating, ambient, factor):
     assert band.value == factor
 
 
+@pytest.mark.parametrize("rating, ambient, factor", [
+    # NEC Table 310.15(B)(1) as adopted by the International Residential Code 2021 (Colorado), Table E3705.2
+    # '[310.15(B)(1)]' (up.codes, stored page): the 61-85 °C rows
+    (75, 65, 0.47), (90, 65, 0.65), (75, 70, 0.33), (90, 70, 0.58), (90, 75, 0.50), (90, 80, 0.41), (90, 85, 0.29),
+])
+def test_ambient_correction_above_60c(t, rating, ambient, factor):
+    band = next(b for b in t.ambient[rating] if b.upto == ambient)
+    assert band.value == factor
+
+
+def test_ambient_75c_insulation_stops_at_70(t):
+    # IRC 2021 Table E3705.2 [310.15(B)(1)] (up.codes): no 75 °C factor above 66-70 °C, none at 90 °C above 81-85 °C
+    assert t.ambient[75][-1].upto == 70 and t.ambient[90][-1].upto == 85
+
+
 def test_ambient_60c_insulation_stops_at_55(t):
     # NFPA 70-2023, Table 310.15(B)(1)(1): no 60 °C factor above 51-55 °C
     assert t.ambient[60][-1].upto == 55
