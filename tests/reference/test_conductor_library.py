@@ -28,10 +28,16 @@ def ohm_per_km(size: SizeSpec, material: str, conductor_class: int) -> float:
         (1.5, "copper", 1, 12.1),
         (2.5, "copper", 1, 7.41),
         (10, "copper", 1, 1.83),
+        # Class 1 copper from 185 mm² (values in doubt in issue 14), as printed in two independent reproductions:
+        # Cembre catalogue p. 204 'IEC 60228:2004-11 conductor tables' and KMI Wire and Cable 'Conductor
+        # specification in according to IEC 60228', Table A.1. They are not the class 2 values (0.0991 ...).
         (185, "copper", 1, 0.101),
         (240, "copper", 1, 0.0775),
+        (300, "copper", 1, 0.0620),
+        (400, "copper", 1, 0.0465),
         (16, "aluminium", 1, 1.91),
         (300, "aluminium", 1, 0.100),
+        (1200, "aluminium", 1, 0.0247),
         # IEC 60228:2004, Table 2 (class 2 stranded)
         (0.5, "copper", 2, 36.0),
         (1.5, "copper", 2, 12.1),

@@ -7,6 +7,8 @@ recalled table, not to print (the data file says the same in its provenance).
 
 from __future__ import annotations
 
+import math
+
 import pytest
 
 from service.core.data import load_tables
@@ -52,6 +54,21 @@ def test_ambient_correction(t, rating, ambient, factor):
     assert band.value == factor
 
 
+@pytest.mark.parametrize("rating, ambient, factor", [
+    # NEC Table 310.15(B)(1) as adopted by the International Residential Code 2021 (Colorado), Table E3705.2
+    # '[310.15(B)(1)]' (up.codes, stored page): the 61-85 °C rows
+    (75, 65, 0.47), (90, 65, 0.65), (75, 70, 0.33), (90, 70, 0.58), (90, 75, 0.50), (90, 80, 0.41), (90, 85, 0.29),
+])
+def test_ambient_correction_above_60c(t, rating, ambient, factor):
+    band = next(b for b in t.ambient[rating] if b.upto == ambient)
+    assert band.value == factor
+
+
+def test_ambient_75c_insulation_stops_at_70(t):
+    # IRC 2021 Table E3705.2 [310.15(B)(1)] (up.codes): no 75 °C factor above 66-70 °C, none at 90 °C above 81-85 °C
+    assert t.ambient[75][-1].upto == 70 and t.ambient[90][-1].upto == 85
+
+
 def test_ambient_60c_insulation_stops_at_55(t):
     # NFPA 70-2023, Table 310.15(B)(1)(1): no 60 °C factor above 51-55 °C
     assert t.ambient[60][-1].upto == 55
@@ -72,6 +89,14 @@ def test_standard_ratings(t):
                    450, 500, 600, 700, 800, 1000, 1200, 1600, 2000, 2500, 3000, 4000, 5000, 6000):
         assert rating in t.ratings
     assert 55 not in t.ratings and 65 not in t.ratings  # from memory: 60 follows 50, 70 follows 60
+
+
+def test_standard_ratings_15_to_600_are_the_published_list(t):
+    # NFPA 70, Table 240.6(A), 15 to 600 A as listed on builders.theknowledgegardens.com 'NEC Article 240'
+    # (stored page): nothing else lies in that range (no 55, 65, 85 ... A).
+    published = [15, 20, 25, 30, 35, 40, 45, 50, 60, 70, 80, 90, 100, 110, 125, 150, 175, 200, 225, 250, 300, 350,
+                 400, 450, 500, 600]
+    assert sorted(r for r in t.ratings if 15 <= r <= 600) == published
 
 
 @pytest.mark.parametrize("material, size, limit", [
@@ -130,6 +155,27 @@ def test_table_1(t):
 def test_table_4(t, raceway, trade, area_in2):
     found = next(s for s in t.raceways[raceway] if s.trade_size == trade)
     assert found.area_m2 / SQ_IN == pytest.approx(area_in2, rel=1e-9)
+
+
+@pytest.mark.parametrize("trade, area_in2", [
+    # NFPA 70 Chapter 9, Table 4, Article 344 RMC, total area 100 %, as reproduced in Goodheart-Willcox,
+    # Modern Commercial Wiring (2018), page 100 ('Table 4 Continued', stored online-textbook page 114)
+    ("1/2", 0.314), ("3/4", 0.549), ("1", 0.887), ("1-1/4", 1.526), ("1-1/2", 2.071), ("2", 3.408), ("2-1/2", 4.866),
+])
+def test_table_4_rmc_published(t, trade, area_in2):
+    found = next(s for s in t.raceways["rmc"] if s.trade_size == trade)
+    assert found.area_m2 / SQ_IN == pytest.approx(area_in2, rel=1e-9)
+
+
+@pytest.mark.parametrize("trade, outside_in, wall_in", [
+    # EMT nominal outside diameter and wall, Steel Tube Institute 'Electrical Metallic Tubing (EMT)' weights and
+    # dimensions (stored page); Table 4's area is that of the nominal inside diameter, pi/4 (OD - 2 wall)^2
+    ("2-1/2", 2.875, 0.072), ("3", 3.500, 0.072), ("3-1/2", 4.000, 0.083), ("4", 4.500, 0.083),
+])
+def test_table_4_large_emt_matches_the_nominal_bore(t, trade, outside_in, wall_in):
+    found = next(s for s in t.raceways["emt"] if s.trade_size == trade)
+    bore = outside_in - 2 * wall_in
+    assert found.area_m2 / SQ_IN == pytest.approx(math.pi / 4 * bore ** 2, abs=5e-4)
 
 
 def test_table_4_schedule_80_is_smaller_than_40(t):

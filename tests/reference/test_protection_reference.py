@@ -158,6 +158,9 @@ def test_worked_example_gg_fuse_at_5_s():
         # IEC 61008-1 Table 1, type S: 0.5 s at IΔn, 0.15 s at 5 IΔn
         (0.3, "S", 0.5, 0.3),
         (0.3, "S", 0.15, 1.5),
+        # Type S at 2 IΔn breaks within 0.20 s: IEC 61008-1/61009-1 times as printed in the HT Instruments
+        # SIRIUS89N user manual, 6.3.1, Table 3 (installation tester)
+        (0.3, "S", 0.2, 0.6),
     ],
 )
 def test_rcd_operating_currents(idn_a, rcd_type, time_s, ia_a):
