@@ -43,7 +43,6 @@ from service.units import (
     ANALYSIS_FREQUENCY,
     CAPACITANCE,
     INDUCTANCE,
-    INDUCTIVE_REACTANCE,
     LENGTH,
     PHASE_ANGLE,
     POWER,
@@ -186,11 +185,37 @@ def _phase(c: _Converter, e, k: int) -> float:
     return ph
 
 
+def source_terminals(e: s.VoltageSourceIn) -> tuple[str, str]:
+    """The request field names that hold a voltage source's positive and negative nodes: a/b, or pos/neg."""
+    return ("pos", "neg") if e.a is None and e.b is None and (e.pos is not None or e.neg is not None) else ("a", "b")
+
+
+def _source_nodes(c: _Converter, e: s.VoltageSourceIn, k: int) -> tuple[str, str]:
+    both = (e.a is not None or e.b is not None) and (e.pos is not None or e.neg is not None)
+    if both:
+        c.reader.add("give the terminals as a and b, or as pos and neg (the same terminals), not both",
+                     "elements", k, "pos" if e.pos is not None else "neg")
+    plus, minus = source_terminals(e)
+    for name in (plus, minus):
+        if getattr(e, name) is None:
+            c.reader.add(f"missing: the {'positive' if name in ('a', 'pos') else 'negative'} terminal's node "
+                         f"({name})", "elements", k, name)
+    return getattr(e, plus) or "", getattr(e, minus) or ""
+
+
+def _reactance(c: _Converter, e, k: int) -> float:
+    x = c.q(e.internal_reactance, REACTANCE, k, "internal_reactance")
+    if c.dc and x < 0:
+        c.reader.add("a capacitive internal reactance has no DC meaning (a series capacitor blocks direct current)",
+                     "elements", k, "internal_reactance")
+    return x
+
+
 def _voltage_source(c: _Converter, e: s.VoltageSourceIn, k: int):
     v = c.signed_source(c.q(e.voltage, SOURCE_VOLTAGE, k, "voltage"), k, "voltage")
     r = c.q(e.internal_resistance, RESISTANCE, k, "internal_resistance")
-    x = c.q(e.internal_reactance, INDUCTIVE_REACTANCE, k, "internal_reactance")
-    return m.VoltageSource(e.id, e.pos, e.neg, v, _phase(c, e, k), r, x)
+    pos, neg = _source_nodes(c, e, k)
+    return m.VoltageSource(e.id, pos, neg, v, _phase(c, e, k), r, _reactance(c, e, k))
 
 
 def _current_source(c: _Converter, e: s.CurrentSourceIn, k: int):
@@ -231,7 +256,7 @@ def _three_phase(c: _Converter, e: s.ThreePhaseSupplyIn, k: int):
         c.reader.add("a three-phase supply needs an AC analysis (frequency > 0)", "elements", k, "type")
     v = c.q(e.line_to_neutral_voltage, VOLTAGE, k, "line_to_neutral_voltage")
     r = c.q(e.internal_resistance, RESISTANCE, k, "internal_resistance")
-    x = c.q(e.internal_reactance, INDUCTIVE_REACTANCE, k, "internal_reactance")
+    x = _reactance(c, e, k)
     return m.ThreePhaseSupply(e.id, e.l1, e.l2, e.l3, e.neutral, v, e.sequence, r, x)
 
 
@@ -277,11 +302,13 @@ _CONVERT: dict[type, Callable] = {
     s.ResistorArrayIn: _resistor_array,
 }
 _TERMINALS: dict[type, tuple[str, ...]] = {
-    s.VoltageSourceIn: ("pos", "neg"), s.ThreePhaseSupplyIn: ("l1", "l2", "l3", "neutral"), s.ResistorArrayIn: (),
+    s.ThreePhaseSupplyIn: ("l1", "l2", "l3", "neutral"), s.ResistorArrayIn: (),
 }
 
 
 def terminals(e) -> tuple[str, ...]:
+    if isinstance(e, s.VoltageSourceIn):
+        return source_terminals(e)
     return _TERMINALS.get(type(e), ("a", "b"))
 
 

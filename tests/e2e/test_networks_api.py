@@ -390,7 +390,6 @@ def test_frequency_left_out_is_assumed_and_said(client):
 
 def test_resonant_tank_is_a_422_naming_the_elements(client):
     # Parallel L-C at w = 1/sqrt(LC) fed by a current source: no steady state (parallel resonance, from memory).
-    import math
     c = 1 / ((2 * math.pi * 50) ** 2 * 0.02)
     body = problem(client.post(SOLVE, json={"frequency": 50, "elements": [
         {"type": "current_source", "id": "J", "a": "0", "b": "t", "current": 1},
@@ -612,3 +611,56 @@ def test_values_beyond_double_precision_are_finite_or_a_422(client, net):
         assert _all_finite(response.json()), response.text
     else:
         assert response.headers["content-type"].startswith(PROBLEM) and response.json()["errors"]
+
+
+def test_voltage_source_takes_a_and_b_like_every_element_and_pos_neg_stay_aliases(client):
+    # Ohm's law: 12 V across 4 ohm gives 3 A; the source's current runs a -> b (pos -> neg) through it: -3 A.
+    def net(source):
+        return {"frequency": 0, "elements": [source, R("r", "p", "0", 4)]}
+    by_ab = ok(client.post(SOLVE, json=net({"type": "voltage_source", "id": "E", "a": "p", "b": "0", "voltage": 12})))
+    by_pos = ok(client.post(SOLVE, json=net(V("E", "p", "0", 12))))
+    for body in (by_ab, by_pos):
+        e = body["elements"][0]
+        assert (e["a"], e["b"], e["current_re_a"], e["current_im_a"]) == ("p", "0", pytest.approx(-3.0), 0.0)
+        assert e["p_w"] == pytest.approx(-36.0) and e["supplied_w"] == pytest.approx(36.0)
+    both = problem(client.post(SOLVE, json=net({"type": "voltage_source", "id": "E", "a": "p", "b": "0",
+                                                "pos": "p", "voltage": 12})), 422)
+    assert "/elements/0/pos" in pointers(both)
+    missing = problem(client.post(SOLVE, json=net({"type": "voltage_source", "id": "E", "a": "p", "voltage": 12})), 422)
+    assert "/elements/0/b" in pointers(missing)
+
+
+def test_every_phasor_has_rectangular_parts_and_dc_values_are_signed(client):
+    # A DC source reversed (-10 V across 5 ohm): node voltage -10 V, resistor current -2 A (Ohm's law), signed in
+    # re_v / current_re_a, where magnitude/angle show 10 V at 180 degrees.
+    body = ok(client.post(SOLVE, json={"frequency": 0, "elements": [V("E", "n", "0", -10), R("r", "n", "0", 5)]}))
+    node = body["node_voltages"][0]
+    assert (node["re_v"], node["im_v"], node["magnitude_v"], node["angle_deg"]) == (-10.0, 0.0, 10.0, 180.0)
+    r = body["elements"][1]
+    assert r["current_re_a"] == pytest.approx(-2.0) and r["voltage_re_v"] == pytest.approx(-10.0)
+
+
+def test_three_phase_supply_reports_absorbed_power_like_every_element(client):
+    # A balanced star of 3 x 23 ohm on 230 V: each phase delivers 230^2 / 23 = 2300 W (P = V^2 / R); as absorbed
+    # power (passive sign convention) that is p_w = -2300 W per phase and -6900 W for the supply.
+    body = ok(client.post(SOLVE, json={"frequency": 50, "reference_node": "N", "elements": [
+        {"type": "three_phase_supply", "id": "S", "l1": "L1", "l2": "L2", "l3": "L3", "neutral": "N",
+         "line_to_neutral_voltage": 230},
+        R("r1", "L1", "N", 23), R("r2", "L2", "N", 23), R("r3", "L3", "N", 23)]}))
+    supply = body["elements"][0]
+    assert supply["p_w"] == pytest.approx(-6900.0) and supply["supplied_w"] == pytest.approx(6900.0)
+    for ph in supply["phases"]:
+        assert ph["p_w"] == pytest.approx(-2300.0)
+        assert complex(ph["current_re_a"], ph["current_im_a"]) == pytest.approx(
+            10.0 * complex(math.cos(math.radians(ph["current_angle_deg"])), math.sin(math.radians(ph["current_angle_deg"]))))
+    assert abs(complex(supply["neutral_current_re_a"], supply["neutral_current_im_a"])) < 1e-9
+
+
+def test_capacitive_source_impedance_is_accepted_at_ac_and_refused_at_dc(client):
+    # E = 100 V behind -j4 ohm into 3 ohm: |I| = 100 / |3 - j4| = 20 A (series impedance, Ohm's law).
+    ac = ok(client.post(SOLVE, json={"frequency": 50, "elements": [
+        V("E", "n", "0", 100, internal_reactance="-4 ohm"), R("r", "n", "0", 3)]}))
+    assert ac["elements"][1]["current_magnitude_a"] == pytest.approx(20.0)
+    dc = problem(client.post(SOLVE, json={"frequency": 0, "elements": [
+        V("E", "n", "0", 100, internal_reactance="-4 ohm"), R("r", "n", "0", 3)]}), 422)
+    assert "/elements/0/internal_reactance" in pointers(dc)

@@ -431,11 +431,19 @@ def _source_phasor(ctx: _Ctx, els, mag: np.ndarray, phase: np.ndarray) -> np.nda
     return mag * np.exp(1j * np.deg2rad(phase))
 
 
+def _refuse_capacitive_at_dc(ctx: _Ctx, els, x: np.ndarray) -> None:
+    """A negative (capacitive) internal reactance is a series capacitor: at DC it would block the source."""
+    if ctx.dc:
+        ctx.problems.flag(els, x < 0, "a capacitive internal reactance has no DC meaning (a series capacitor "
+                          "blocks direct current)")
+
+
 def _voltage_source(ctx: _Ctx, idx: np.ndarray) -> None:
     els, na, nb = ctx.two_terminal(idx, "pos", "neg")
     values, bad = _columns(els, ("voltage_v", "phase_deg", "internal_resistance_ohm", "internal_reactance_ohm"),
-                           ctx.problems, (ANY, ANY, AT_LEAST_0, AT_LEAST_0))
-    ctx.problems.flag(els, bad, "values must be finite, internal R and X >= 0")
+                           ctx.problems, (ANY, ANY, AT_LEAST_0, ANY))
+    ctx.problems.flag(els, bad, "values must be finite, internal R >= 0")
+    _refuse_capacitive_at_dc(ctx, els, values[:, 3])
     if _any(bad):
         values = np.where(bad[:, None], 0.0, values)
     v, ph, r, x = values.T
@@ -519,8 +527,8 @@ def _three_phase(ctx: _Ctx, idx: np.ndarray) -> None:
         if len(set(nodes4[j].tolist())) < 4:
             ctx.self_loops.append(e.id)
     (v, r, x), bad = _split(_columns(els, ("line_to_neutral_voltage_v", "internal_resistance_ohm",
-                                           "internal_reactance_ohm"), ctx.problems, (ABOVE_0, AT_LEAST_0, AT_LEAST_0)))
-    ctx.problems.flag(els, bad, "line_to_neutral_voltage_v must be > 0, internal R and X >= 0")
+                                           "internal_reactance_ohm"), ctx.problems, (ABOVE_0, AT_LEAST_0, ANY)))
+    ctx.problems.flag(els, bad, "line_to_neutral_voltage_v must be > 0, internal R >= 0")
     known = m.POSITIVE_SEQUENCE + m.NEGATIVE_SEQUENCE
     seq_bad = np.array([e.sequence not in known for e in els])
     ctx.problems.flag(els, seq_bad, 'sequence must be "positive" ("L1-L2-L3") or "negative" ("L1-L3-L2")')

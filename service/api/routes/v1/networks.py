@@ -109,6 +109,8 @@ def _two_terminal(el, out_type: type, cable: CableUse | None):
     return out_type(
         id=el.id, a=el.a, b=el.b,
         voltage_magnitude_v=vm, voltage_angle_deg=va, current_magnitude_a=im, current_angle_deg=ia,
+        voltage_re_v=el.voltage.real, voltage_im_v=el.voltage.imag, current_re_a=el.current.real,
+        current_im_a=el.current.imag,
         p_w=el.p_w, q_var=el.q_var, s_va=el.s_va,
         power_factor=el.power_factor, power_factor_sense=sense,
         supplied_w=el.supplied_w, supplied_var=el.supplied_var, internal_loss_w=el.internal_loss_w,
@@ -126,19 +128,23 @@ def _three_phase(el: ThreePhaseSupplyResult) -> s.ThreePhaseSupplyOut:
         s.SupplyPhaseOut(
             line=ph.line, node=ph.node,
             current_magnitude_a=ph.line_current.magnitude, current_angle_deg=ph.line_current.angle_deg,
+            current_re_a=ph.line_current.real, current_im_a=ph.line_current.imag,
             voltage_to_neutral_magnitude_v=ph.voltage_to_neutral.magnitude,
             voltage_to_neutral_angle_deg=ph.voltage_to_neutral.angle_deg,
-            supplied_w=ph.supplied_w, supplied_var=ph.supplied_var,
+            voltage_to_neutral_re_v=ph.voltage_to_neutral.real, voltage_to_neutral_im_v=ph.voltage_to_neutral.imag,
+            supplied_w=ph.supplied_w, supplied_var=ph.supplied_var, p_w=-ph.supplied_w, q_var=-ph.supplied_var,
         )
         for ph in el.phases
     ]
-    ll = [s.LineToLineOut(lines=x.lines, magnitude_v=x.voltage.magnitude, angle_deg=x.voltage.angle_deg)
+    ll = [s.LineToLineOut(lines=x.lines, magnitude_v=x.voltage.magnitude, angle_deg=x.voltage.angle_deg,
+                          re_v=x.voltage.real, im_v=x.voltage.imag)
           for x in el.line_to_line_voltages]
     return s.ThreePhaseSupplyOut(
         id=el.id, phases=phases, line_to_line=ll,
         neutral_current_magnitude_a=el.neutral_current.magnitude,
         neutral_current_angle_deg=el.neutral_current.angle_deg,
-        supplied_w=el.supplied_w, supplied_var=el.supplied_var, s_va=el.s_va, internal_loss_w=el.internal_loss_w,
+        neutral_current_re_a=el.neutral_current.real, neutral_current_im_a=el.neutral_current.imag,
+        supplied_w=el.supplied_w, supplied_var=el.supplied_var, p_w=-el.supplied_w, q_var=-el.supplied_var, s_va=el.s_va, internal_loss_w=el.internal_loss_w,
         power_factor=el.power_factor, power_factor_sense=el.power_factor_sense,
     )
 
@@ -148,7 +154,9 @@ def _array(el: ArrayElementResult, sol: Solution, branches: bool) -> s.ResistorA
     if branches:
         values = sol.array_values(el.id)
         mag, ang = _columns(values.current)
-        out.update(branch_current_magnitude_a=mag, branch_current_angle_deg=ang, branch_p_w=values.p_w.tolist())
+        out.update(branch_current_magnitude_a=mag, branch_current_angle_deg=ang, branch_p_w=values.p_w.tolist(),
+                   branch_current_re_a=values.current.real.tolist(),
+                   branch_current_im_a=np.imag(values.current).tolist())
     return s.ResistorArrayOut(**out)
 
 
@@ -172,9 +180,11 @@ def _thevenin(sol: Solution) -> list[s.TheveninOut]:
             a=t.a, b=t.b,
             open_circuit_voltage_magnitude_v=t.open_circuit_voltage.magnitude,
             open_circuit_voltage_angle_deg=t.open_circuit_voltage.angle_deg,
+            open_circuit_voltage_re_v=t.open_circuit_voltage.real, open_circuit_voltage_im_v=t.open_circuit_voltage.imag,
             resistance_ohm=t.resistance_ohm, reactance_ohm=t.reactance_ohm, impedance_ohm=t.impedance_ohm,
             short_circuit_current_magnitude_a=isc.magnitude if isc else None,
             short_circuit_current_angle_deg=isc.angle_deg if isc else None,
+            short_circuit_current_re_a=isc.real if isc else None, short_circuit_current_im_a=isc.imag if isc else None,
             source_loop_resistance_ohm=None if t.source_side is None else t.source_side.real,
             source_loop_reactance_ohm=None if t.source_side is None else t.source_side.imag,
             source_loop_impedance_ohm=None if t.source_side is None else abs(t.source_side),
@@ -295,11 +305,13 @@ def _result(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) ->
         order = _node_order(req, names)
         v = sol.voltage_array()[order]
         mag, ang = _columns(v)
+        re, im = v.real.tolist(), np.imag(v).tolist()
         ordered = [names[i] for i in order.tolist()]
         if layout == "objects":
-            node_objects = [s.NodeVoltageOut(node=n, magnitude_v=x, angle_deg=y) for n, x, y in zip(ordered, mag, ang)]
+            node_objects = [s.NodeVoltageOut(node=n, magnitude_v=x, angle_deg=y, re_v=r, im_v=i)
+                            for n, x, y, r, i in zip(ordered, mag, ang, re, im)]
         else:
-            node_columns = s.NodeVoltageColumns(nodes=ordered, magnitude_v=mag, angle_deg=ang)
+            node_columns = s.NodeVoltageColumns(nodes=ordered, magnitude_v=mag, angle_deg=ang, re_v=re, im_v=im)
     return s.NetworkSolveResult(
         analysis="ac" if sol.frequency_hz else "dc",
         frequency_hz=sol.frequency_hz,

@@ -31,7 +31,6 @@ from service.units import (
     ANALYSIS_FREQUENCY,
     CAPACITANCE,
     INDUCTANCE,
-    INDUCTIVE_REACTANCE,
     LENGTH,
     PHASE_ANGLE,
     POWER,
@@ -101,18 +100,28 @@ class CapacitorIn(_TwoTerminalIn, tag="capacitor"):
     capacitance: quantity(CAPACITANCE, "20 uF", 2.0e-5)  # type: ignore[valid-type]
 
 
-class VoltageSourceIn(_Element, tag="voltage_source"):
-    """An EMF from ``neg`` to ``pos`` behind an optional internal impedance.
+OptionalNode = Annotated[str, Meta(min_length=1, max_length=100)] | None
+SOURCE_TERMINALS = ("Terminals: a (positive) and b (negative), like every two-terminal element; pos and neg are "
+                    "the same terminals under their earlier names, kept for v1 callers. Give one pair, not both.")
+
+
+class VoltageSourceIn(_Element, tag="voltage_source", kw_only=True):
+    """An EMF from its negative terminal (b, or neg) to its positive one (a, or pos) behind an optional internal
+    impedance: on open circuit v(a) - v(b) = voltage.
 
     AC: ``voltage`` is the RMS magnitude (>= 0) at angle ``phase``.  DC: a signed value, ``phase`` 0.
     """
 
-    pos: NodeName
-    neg: NodeName
+    a: Annotated[OptionalNode, Meta(description="Positive terminal's node. " + SOURCE_TERMINALS)] = None
+    b: Annotated[OptionalNode, Meta(description="Negative terminal's node. " + SOURCE_TERMINALS)] = None
+    pos: Annotated[OptionalNode, Meta(description="Positive terminal's node: the same as a. " + SOURCE_TERMINALS)] = None
+    neg: Annotated[OptionalNode, Meta(description="Negative terminal's node: the same as b. " + SOURCE_TERMINALS)] = None
     voltage: quantity(SOURCE_VOLTAGE, "230 V", 12)  # type: ignore[valid-type]
     phase: quantity(PHASE_ANGLE, "0 deg", -120) = 0.0  # type: ignore[valid-type]
     internal_resistance: quantity(RESISTANCE, "0.25 ohm") = 0.0  # type: ignore[valid-type]
-    internal_reactance: quantity(INDUCTIVE_REACTANCE, "0.15 ohm") = 0.0  # type: ignore[valid-type]
+    internal_reactance: quantity(REACTANCE, "0.15 ohm", "-0.4 ohm") = 0.0  # type: ignore[valid-type]
+    # Positive: inductive (a transformer or generator). Negative: capacitive (a source behind a series capacitor,
+    # AC only: at DC a series capacitor blocks the current, so a negative value is refused there).
 
 
 class CurrentSourceIn(_TwoTerminalIn, tag="current_source"):
@@ -170,7 +179,8 @@ class ThreePhaseSupplyIn(_Element, tag="three_phase_supply"):
     line_to_neutral_voltage: quantity(VOLTAGE, "230 V", "240 V")  # type: ignore[valid-type]
     sequence: Literal["positive", "negative", "L1-L2-L3", "L1-L3-L2"] = "positive"
     internal_resistance: quantity(RESISTANCE, "0.02 ohm") = 0.0  # type: ignore[valid-type]
-    internal_reactance: quantity(INDUCTIVE_REACTANCE, "0.04 ohm") = 0.0  # type: ignore[valid-type]
+    internal_reactance: quantity(REACTANCE, "0.04 ohm") = 0.0  # type: ignore[valid-type]
+    # Per phase; positive inductive, negative capacitive.
 
 
 class ResistorArrayIn(_Element, tag="resistor_array"):
@@ -247,6 +257,10 @@ class NodeVoltageOut(Out):
     node: str
     magnitude_v: float
     angle_deg: float
+    re_v: float
+    """Real part of the node voltage (DC: the signed voltage)."""
+    im_v: float
+    """Imaginary part (0 at DC)."""
 
 
 class NodeVoltageColumns(Out):
@@ -255,6 +269,10 @@ class NodeVoltageColumns(Out):
     nodes: list[str]
     magnitude_v: list[float]
     angle_deg: list[float]
+    re_v: list[float]
+    """Real parts (DC: the signed voltages)."""
+    im_v: list[float]
+    """Imaginary parts (0 at DC)."""
 
 
 class _ElementResult(_Result, tag_field="type"):
@@ -275,6 +293,12 @@ class _TwoTerminal(_ElementResult):
     voltage_angle_deg: float
     current_magnitude_a: float
     current_angle_deg: float
+    voltage_re_v: float
+    """Real part of V = v(a) - v(b) (DC: the signed value)."""
+    voltage_im_v: float
+    current_re_a: float
+    """Real part of the current from a to b through the element (DC: the signed value)."""
+    current_im_a: float
     p_w: float
     q_var: float
     s_va: float
@@ -310,18 +334,31 @@ class SupplyPhaseOut(Out):
     line: str
     node: str
     current_magnitude_a: float
-    """Out of the supply's line terminal into the network."""
+    """Out of the supply's line terminal into the network: the direction of supply. (A voltage source reports its
+    current from a to b through the source, so the two differ in sign; p_w and q_var follow one convention.)"""
     current_angle_deg: float
+    current_re_a: float
+    """Real part of the same current, out of the line terminal."""
+    current_im_a: float
     voltage_to_neutral_magnitude_v: float
     voltage_to_neutral_angle_deg: float
+    voltage_to_neutral_re_v: float
+    voltage_to_neutral_im_v: float
     supplied_w: float
     supplied_var: float
+    p_w: float
+    """Active power absorbed by this phase of the source (passive sign convention, as for every element): negative
+    when it delivers, = -supplied_w."""
+    q_var: float
+    """Reactive power absorbed (passive sign convention), = -supplied_var."""
 
 
 class LineToLineOut(Out):
     lines: str
     magnitude_v: float
     angle_deg: float
+    re_v: float
+    im_v: float
 
 
 class ThreePhaseSupplyOut(_ElementResult, tag="three_phase_supply"):
@@ -330,8 +367,14 @@ class ThreePhaseSupplyOut(_ElementResult, tag="three_phase_supply"):
     neutral_current_magnitude_a: float
     """I1 + I2 + I3, returning from the network into the supply's neutral terminal."""
     neutral_current_angle_deg: float
+    neutral_current_re_a: float
+    neutral_current_im_a: float
     supplied_w: float
     supplied_var: float
+    p_w: float
+    """Active power absorbed by the supply (passive sign convention, as for every element): = -supplied_w."""
+    q_var: float
+    """Reactive power absorbed (passive sign convention): = -supplied_var."""
     s_va: float
     internal_loss_w: float
     power_factor: float | None = None
@@ -346,6 +389,8 @@ class ResistorArrayOut(_ElementResult, tag="resistor_array"):
     branch_current_magnitude_a: list[float] | None = None
     branch_current_angle_deg: list[float] | None = None
     """Per-branch values (``options.array_branch_values``), in the order of the request's arrays; a -> b."""
+    branch_current_re_a: list[float] | None = None
+    branch_current_im_a: list[float] | None = None
     branch_p_w: list[float] | None = None
 
 
@@ -376,6 +421,8 @@ class TheveninOut(_Result):
     b: str
     open_circuit_voltage_magnitude_v: float
     open_circuit_voltage_angle_deg: float
+    open_circuit_voltage_re_v: float
+    open_circuit_voltage_im_v: float
     resistance_ohm: float
     reactance_ohm: float
     impedance_ohm: float
@@ -385,6 +432,8 @@ class TheveninOut(_Result):
     short_circuit_current_magnitude_a: float | None = None
     """Voc / Z through a short from a to b with the loads connected; left out when Z = 0."""
     short_circuit_current_angle_deg: float | None = None
+    short_circuit_current_re_a: float | None = None
+    short_circuit_current_im_a: float | None = None
     source_loop_resistance_ohm: float | None = None
     """Resistance between a and b with every `load` element disconnected and the sources zeroed: the source-side
     loop (supply impedance plus the conductors to a and b). Left out when a or b has no path to the reference node
@@ -397,6 +446,15 @@ class TheveninOut(_Result):
 
 
 class NetworkSolveResult(Out):
+    """The solved network.
+
+    One sign convention for every element: V = v(a) - v(b) across it and I from a to b through it (a voltage
+    source's a is its positive terminal); p_w and q_var are the power it absorbs (passive sign convention), so a
+    source that delivers shows p_w < 0, and supplied_w = -p_w for every source. A three-phase supply's phase
+    currents are given out of its line terminals, the direction of supply. Every phasor comes as magnitude and
+    angle (degrees) and as real and imaginary parts; at DC the real part is the signed value.
+    """
+
     analysis: Literal["ac", "dc"]
     frequency_hz: float
     reference_node: str
