@@ -22,10 +22,22 @@ from service.api.nec_input import to_nec_input
 from service.api.routes.v1.raceways import fill_out
 from service.api.sizing_input import to_sizing_input
 from service.core import sizing as core
+from service.core.cable_impedance import mv_per_a_m
 from service.core.sizing.regimes import sizing_regime
 
 SIZE_ID = "sizeConductor"
 VERIFY_ID = "verifyConductor"
+
+
+def _impedance_fields(ev: core.SizeEvaluation) -> dict:
+    z = ev.line_impedance
+    if z is None:
+        return {}
+    phases = ev.drop_phases or "single"
+    return dict(r_ohm_per_m=z.r_ohm_per_m, x_ohm_per_m=z.x_ohm_per_m, z_ohm_per_m=z.z_ohm_per_m,
+                r_mv_per_a_m=mv_per_a_m(z.r_ohm_per_m, phases), x_mv_per_a_m=mv_per_a_m(z.x_ohm_per_m, phases),
+                z_mv_per_a_m=mv_per_a_m(z.z_ohm_per_m, phases), drop_conductor_temperature_degc=z.temperature_c,
+                line_impedance_basis=z.basis)
 
 
 def _size_out(ev: core.SizeEvaluation) -> s.SizeOut:
@@ -39,6 +51,7 @@ def _size_out(ev: core.SizeEvaluation) -> s.SizeOut:
         checks=[s.CheckOut(name=c.name, passes=c.passes, value=c.value, limit=c.limit, unit=c.unit,
                            condition=c.condition, source=c.source, detail=c.detail, obligation=c.obligation)
                 for c in ev.checks],
+        **_impedance_fields(ev),
     )
 
 
@@ -56,7 +69,7 @@ def sizing_out(r: core.SizingResult) -> s.SizingResult:
         disconnection_time_source=r.disconnection_source,
         chosen=None if r.chosen is None else _size_out(r.chosen), governing_check=r.governing_check,
         rejected=[_size_out(ev) for ev in r.rejected], binding_checks=list(r.binding_checks), ways_out=list(r.ways_out),
-        raceway=None if r.raceway is None else fill_out(r.raceway),
+        raceway=None if r.raceway is None else fill_out(r.raceway), drop_temperature_basis=r.drop_temperature_basis,
         notes=CalculationNotes(
             steps=[Step(name=st.name, formula=st.formula, value=st.value, unit=st.unit, source=st.source) for st in r.steps],
             assumptions=list(r.assumptions),
