@@ -112,12 +112,27 @@ class LineImpedance:
     frequency_hz: float
     arrangement: str
     spacing: Spacing
-    floor_applied: bool  # the Annex G value was higher than the geometry's and was taken
-    basis: str
+    loaded: int
+    x_geometric_ohm_per_m: float  # from the spacing; x is the larger of it and Annex G's value
 
     @property
     def z_ohm_per_m(self) -> float:
         return math.hypot(self.r_ohm_per_m, self.x_ohm_per_m)
+
+    @property
+    def floor_applied(self) -> bool:
+        """The Annex G value was higher than the geometry's and was taken."""
+        return self.x_ohm_per_m > self.x_geometric_ohm_per_m
+
+    @property
+    def basis(self) -> str:
+        sp = self.spacing
+        return (f"{_DESCRIBED[self.arrangement]}, {self.loaded} loaded; d {sp.conductor_diameter_m / MM:.3g} mm, "
+                f"{'core' if self.arrangement == 'multicore' else 'cable'} {sp.cable_diameter_m / MM:.3g} mm, s_g "
+                f"{sp.reactance_spacing_m / MM:.3g} mm; X {self.x_geometric_ohm_per_m * 1e3:.4g} mΩ/m at "
+                f"{self.frequency_hz:g} Hz"
+                + (f", below Annex G: {self.x_ohm_per_m * 1e3:.4g} mΩ/m taken" if self.floor_applied else "")
+                + f"; R = R_dc (1 + ys {self.skin_ys:.3g} + yp {self.proximity_yp:.3g}) at {self.temperature_c:.4g} °C")
 
 
 def spacing(conductor: Conductor, arrangement: str, loaded: int, geometry: CableGeometry) -> Spacing:
@@ -188,14 +203,8 @@ def line_impedance(conductor: Conductor, temperature_c: float, frequency_hz: flo
     ys, yp = ac_factors(r_dc, frequency_hz, sp.conductor_diameter_m / sp.proximity_spacing_m, loaded)
     x_geometric = reactance_ohm_per_m(frequency_hz, sp.reactance_spacing_m, sp.conductor_diameter_m)
     floor = annex_g_reactance(frequency_hz)
-    x = max(x_geometric, floor)
-    basis = (f"{_DESCRIBED[arrangement]}, {loaded} loaded; d {sp.conductor_diameter_m / MM:.3g} mm, "
-             f"{'core' if arrangement == 'multicore' else 'cable'} {sp.cable_diameter_m / MM:.3g} mm, s_g "
-             f"{sp.reactance_spacing_m / MM:.3g} mm; X {x_geometric * 1e3:.4g} mΩ/m at {frequency_hz:g} Hz"
-             + (f", below Annex G: {floor * 1e3:.4g} mΩ/m taken" if x > x_geometric else "")
-             + f"; R = R_dc (1 + ys {ys:.3g} + yp {yp:.3g}) at {temperature_c:.4g} °C")
-    return LineImpedance(r_dc, r_dc * (1.0 + ys + yp), x, ys, yp, temperature_c, frequency_hz, arrangement, sp,
-                         x > x_geometric, basis)
+    return LineImpedance(r_dc, r_dc * (1.0 + ys + yp), max(x_geometric, floor), ys, yp, temperature_c, frequency_hz,
+                         arrangement, sp, loaded, x_geometric)
 
 
 def arrangement_for(cable: str, method: str, formation: str) -> str:

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 from functools import lru_cache
 from typing import Protocol
 
-from service.core.cable_impedance import LineImpedance, arrangement_for, line_impedance
+from service.core.cable_impedance import ANNEX_G_REACTANCE_OHM_PER_M, LineImpedance, arrangement_for, line_impedance
 from service.core.conductors import Conductor, ConductorLibrary, default_library
 from service.core.errors import calc_error
 from service.core.protection import ProtectionLibrary, default_protection
@@ -43,8 +43,8 @@ from .tables import (
 )
 
 CONDUCTOR_CLASS = 2  # stranded (IEC 60228 Table 2): the class of installation cables
-# IEC 60364-5-52:2009 Annex G: reactance per unit length lambda = 0.08 mOhm/m when nothing else is known.
-ANNEX_G_REACTANCE_OHM_PER_M = 0.08e-3
+# IEC 60364-5-52:2009 Annex G: lambda = 0.08 mOhm/m when nothing else is known (the fallback of Electrical; the
+# drop itself takes each size's impedance by arrangement, service.core.cable_impedance, which never goes below it).
 ANNEX_G_SOURCE = "IEC 60364-5-52:2009, Annex G: reactance per unit length 0.08 mΩ/m in the absence of other details"
 OPERATING_TEMPERATURE_C = {"pvc_70": 70.0, "xlpe_epr_90": 90.0}  # IEC 60364-5-52 Table 52.1 (from memory)
 # IEC 60364-4-43:2008, 433.1: I2 <= 1.45 Iz.
