@@ -71,6 +71,7 @@ def _circuit(reader: FieldReader, c: s.CircuitIn) -> CircuitSpec:
         soil_resistivity_k_m_per_w=_optional(reader, c.soil_thermal_resistivity, SOIL_THERMAL_RESISTIVITY, "circuit",
                                              "soil_thermal_resistivity"),
         neutral=c.neutral,
+        drop_temperature_basis=c.drop_temperature_basis or "maximum_operating",
     )
 
 
@@ -123,6 +124,7 @@ def check_protective_mode(reader: FieldReader, mode: str, pc: s.ProtectiveConduc
 
 # Fields only one regime uses: (path, the regime they belong to).  A field given for the other regime is a 422.
 IEC_ONLY = (("circuit", "method"), ("circuit", "insulation"), ("circuit", "cable"), ("circuit", "formation"),
+            ("circuit", "drop_temperature_basis"),
             ("circuit", "ambient_medium"), ("circuit", "grouping"), ("circuit", "thermal_insulation_length"),
             ("circuit", "soil_thermal_resistivity"), ("protection", "device", "type"), ("protection", "rcd"),
             ("protection", "required_disconnection_time"), ("protection", "circuit_kind"),

@@ -6,7 +6,12 @@ from NEC Chapter 9, Table 8.  Every calculator reuses this module.
 
 Resistance at another conductor temperature follows the linear law the
 standards use: R(t) = R(t_ref) * (K + t) / (K + t_ref), with K = 234.5 °C for
-copper and 228 °C for aluminium (IEC 60228 Annex B).
+copper and 228 °C for aluminium.  These are the exact formulae of IEC 60228:2004
+Annex B (informative; as adopted identically in GOST 22483-2021, Annex B):
+kt = 254.5 / (234.5 + t) = 1 / (1 + 0.00393 (t - 20)) for annealed copper (B.1)
+and kt = 248 / (228 + t) = 1 / (1 + 0.00403 (t - 20)) for aluminium (B.2), with
+R20 = Rt x kt.  (The rounded correction factors tabulated for measurements,
+e.g. 0.833 at 70 °C, follow 250 / (230 + t): not the law used here.)
 """
 
 from __future__ import annotations
@@ -86,6 +91,16 @@ class Material:
     def alpha_20c_per_k(self) -> float:
         """Temperature coefficient of resistance at 20 °C implied by the linear law."""
         return 1.0 / (self.temperature_constant_c + 20.0)
+
+
+_ANNEX_B_FORMULA = {"copper": "B.1 (annealed copper)", "aluminium": "B.2 (aluminium)"}
+
+
+def temperature_law_source(material: Material) -> str:
+    """The citation of the temperature law, naming the formula with the material's own constant."""
+    k = material.temperature_constant_c
+    return (f"IEC 60228:2004, Annex B, formula {_ANNEX_B_FORMULA[material.name]}: kt = {k + 20:g}/({k:g} + t) = "
+            f"1/(1 + {material.alpha_20c_per_k:.3g} (t − 20)), R20 = Rt x kt")
 
 
 @dataclass(frozen=True, slots=True)

@@ -109,7 +109,10 @@ def test_dc_market_stall_example_matches_a_hand_solution(client):
     assert th["resistance_ohm"] == pytest.approx(r_th, rel=1e-9)
     assert th["open_circuit_voltage_magnitude_v"] == pytest.approx(v, rel=1e-9)
     assert th["short_circuit_current_magnitude_a"] == pytest.approx(v / r_th, rel=1e-9)
-    assert any(s["source"] == "IEC 60228:2004, Annex B" for s in body["notes"]["steps"])
+    # IEC 60228:2004 Annex B formula B.1 (copper), the law the step applies.
+    assert any((s["source"] or "").startswith("IEC 60228:2004, Annex B, formula B.1")
+               and "254.5/(234.5 + t)" in s["source"]
+               for s in body["notes"]["steps"])
     assert {s["table_id"] for s in body["notes"]["sources"]} == {"iec60228-table3", "conductor-materials"}
 
 

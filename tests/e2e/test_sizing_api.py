@@ -131,3 +131,53 @@ def test_tt_rcd_without_electrode_is_a_422(client):
 def test_unknown_field_is_a_400(client):
     body = problem(client.post(SIZE, json=request(circuit={"colour": "red"})), 400)
     assert body["errors"]
+
+
+def test_answer_shows_r_x_z_and_the_arrangement_of_each_size(client):
+    # BS 7671:2018 Table 4E1B (CSE Distributors' reproduction), 95 mm² single-core XLPE, three-phase, flat spaced:
+    # r 0.43, x 0.25 mV/A/m at 90 °C; the answer carries the per-size impedance as fields, not only in prose.
+    body = ok(client.post(VERIFY, json=request(
+        load={"phases": "three", "design_current": "150 A", "power_factor": 0.8},
+        circuit={"length": "80 m", "method": "F", "cable": "single_core", "formation": "flat_spaced",
+                 "insulation": "xlpe_epr_90", "size": "95 mm^2"},
+        protection={"device": {"type": "gG", "rated_current": "250 A"}, "required_disconnection_time": "5 s"},
+        limits={"voltage_drop": 10})))
+    size = body["chosen"]
+    assert 0.97 * 0.43 <= size["r_mv_per_a_m"] <= 1.05 * 0.43
+    assert 0.97 * 0.25 <= size["x_mv_per_a_m"] <= 1.12 * 0.25
+    assert size["z_ohm_per_m"] == pytest.approx((size["r_ohm_per_m"] ** 2 + size["x_ohm_per_m"] ** 2) ** 0.5)
+    assert size["x_ohm_per_m"] * 1000 * 3 ** 0.5 == pytest.approx(size["x_mv_per_a_m"])
+    assert "flat, spaced one cable diameter" in size["line_impedance_basis"]
+    assert size["drop_conductor_temperature_degc"] == 90.0
+    assert body["drop_temperature_basis"] == "maximum_operating"
+    assert any("arrangement 'flat_spaced'" in a for a in body["notes"]["assumptions"])
+
+
+def test_drop_temperature_estimated_from_the_load_is_named_in_the_answer(client):
+    # theta = theta_a + (theta_max - theta_a)(Ib/Iz)^2 (common practice): 2.5 mm² PVC method C, two loaded, It 27 A
+    # (IEC 60364-5-52:2009 Table B.52.2, column C; BS 7671 Table 4D2A), 30 °C: Ib 18 A -> 30 + 40 (18/27)^2 = 47.8 °C.
+    base = request(load={"design_current": "18 A", "power_factor": 1.0},
+                   circuit={"length": "30 m", "method": "C", "size": "2.5 mm^2"},
+                   protection={"device": {"type": "B", "rated_current": "20 A"}})
+    hot = ok(client.post(VERIFY, json=base))
+    base["circuit"]["drop_temperature_basis"] = "estimated_from_load"
+    warm = ok(client.post(VERIFY, json=base))
+    assert warm["drop_temperature_basis"] == "estimated_from_load"
+    assert warm["chosen"]["drop_conductor_temperature_degc"] == pytest.approx(30 + 40 * (18 / 27) ** 2, rel=1e-9)
+    # The drop follows the resistance: (234.5 + 47.8) / (234.5 + 70), IEC 60228:2004 Annex B formula B.1.
+    ratio = (234.5 + 30 + 40 * (18 / 27) ** 2) / (234.5 + 70.0)
+    assert warm["chosen"]["voltage_drop_v"] == pytest.approx(hot["chosen"]["voltage_drop_v"] * ratio, rel=2e-3)
+    # The earth-fault loop stays at the maximum temperature whatever the drop basis.
+    assert warm["chosen"]["zs_ohm"] == pytest.approx(hot["chosen"]["zs_ohm"], rel=1e-12)
+    assert any("basis estimated_from_load" in a for a in warm["notes"]["assumptions"])
+
+
+def test_flat_spaced_in_conduit_and_drop_basis_for_the_nec_are_refused(client):
+    # Methods A1/B1 (IEC 60364-5-52 Table B.52.1) are in conduit or trunking: cables there cannot be spaced.
+    body = problem(client.post(SIZE, json=request(
+        circuit={"method": "B1", "cable": "single_core", "formation": "flat_spaced"})), 422)
+    assert "/circuit/formation" in pointers(body)
+    nec = {"regime": "nec", "load": {"design_current": "20 A"},
+           "circuit": {"length": "50 ft", "drop_temperature_basis": "estimated_from_load"},
+           "supply": {"system": "120V"}}
+    assert "/circuit/drop_temperature_basis" in pointers(problem(client.post(SIZE, json=nec), 422))

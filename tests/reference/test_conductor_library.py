@@ -139,6 +139,26 @@ def test_temperature_correction_follows_iec60228_annex_b():
         assert al.resistance_per_m_at(t) * 248.0 / (228.0 + t) == pytest.approx(1.91e-3, rel=1e-12)
 
 
+def test_temperature_law_citation_names_the_formula_applied():
+    # IEC 60228:2004 Annex B (exact formulae, as printed in GOST 22483-2021, its identical adoption):
+    # B.1 annealed copper kt = 254.5 / (234.5 + t) = 1 / (1 + 0.00393 (t - 20)); B.2 aluminium kt = 248 / (228 + t)
+    # = 1 / (1 + 0.00403 (t - 20)); R20 = Rt x kt.  The citation must name the formula the resistance follows (not
+    # the rounded measurement factors, which follow 250 / (230 + t)).
+    from service.core.conductors import temperature_law_source
+
+    lib = default_library()
+    for material, formula, alpha, r20 in (("copper", "B.1 (annealed copper): kt = 254.5/(234.5 + t)", "0.00393", 7.41e-3),
+                                          ("aluminium", "B.2 (aluminium): kt = 248/(228 + t)", "0.00403", 1.91e-3)):
+        c = lib.find(SizeSpec.metric(2.5e-6 if material == "copper" else 16e-6), material, 2)
+        source = temperature_law_source(c.material)
+        assert source.startswith("IEC 60228:2004, Annex B, formula " + formula), source
+        assert f"1/(1 + {alpha} (t − 20))" in source
+        assert "250/(230" not in source
+        numerator, k = (254.5, 234.5) if material == "copper" else (248.0, 228.0)
+        for t in (5.0, 40.0, 70.0, 90.0):
+            assert c.resistance_per_m_at(t) * numerator / (k + t) == pytest.approx(r20, rel=1e-12)
+
+
 def test_temperature_correction_matches_nec_table8_note():
     # NEC Chapter 9, Table 8, note 2: R2 = R1 [1 + alpha (T2 - 75)], alpha = 0.00323 copper, 0.00330 aluminium.
     cu = default_library().find(SizeSpec.awg("12"), "copper", 2)

@@ -68,6 +68,8 @@ def test_tables_load_and_validate():
     ("iec60364-5-52-tableB52-18", 0, "0.5_m", 0.86, "spacing"),
     ("iec60364-5-52-tableG52-1", 0, "lighting_pct", 9, "lighting no more than"),
     ("iec60269-1-conventional-currents", 2, "conventional_fusing_multiple", 2.5, "must not rise"),
+    # IEC 60502-1 insulation thickness never falls as the area grows (the 35 mm² row thinner than 25 mm²)
+    ("iec60502-1-pvc-insulation-thickness", 7, "insulation_mm", 0.9, "must not fall"),
 ])
 def test_defective_table_stops_start_up(table_id, row, column, value, message):
     with pytest.raises(DataTableError, match=message):

@@ -78,6 +78,17 @@ class Context:
     electrical: Electrical
     pe_for: Callable[[Conductor], tuple[Conductor, str]]
     live_conductors: int
+    drop_ambient_c: float | None = None  # set: the drop's conductor temperature is estimated from the load
+
+
+def drop_temperature_c(ctx: Context, iz_a: float) -> float:
+    """The conductor temperature of the voltage drop: the maximum, or theta_a + (theta_max - theta_a) (Ib / Iz)^2
+    (losses, and so the temperature rise, go with the current squared: common practice).  Not clamped: a size with
+    Ib > Iz gets a temperature above the maximum, and a larger drop."""
+    t_max = ctx.electrical.temperature_c
+    if ctx.drop_ambient_c is None:
+        return t_max
+    return ctx.drop_ambient_c + (t_max - ctx.drop_ambient_c) * (ctx.design_current_a / iz_a) ** 2
 
 
 def _check(name: str, passes: bool, value: float, limit: float, unit: str, condition: str, source: str,
@@ -199,13 +210,21 @@ def evaluate(ctx: Context, sizes: list[tuple[Conductor, Capacity]], with_network
     e = ctx.electrical
     pes = [ctx.pe_for(line) for line, _ in sizes]
     runs: list[RunSolution | None] = [None] * len(sizes)
+    impedances: list = [None] * len(sizes)
     solves = 0
     if with_network and sizes:
-        runs = list(solve_runs([RunCase(line, pe) for (line, _), (pe, _) in zip(sizes, pes)], e))
+        c = ctx.spec.circuit
+        impedances = [ctx.regime.line_impedance(c, line, ctx.loaded,
+                                                drop_temperature_c(ctx, cap.value_a * ctx.factor_product),
+                                                e.frequency_hz) for line, cap in sizes]
+        # The drop with the arrangement's AC impedance; the loop with the DC resistance at the maximum temperature.
+        runs = list(solve_runs([RunCase(line, pe, z.r_ohm_per_m, z.x_ohm_per_m,
+                                        line.resistance_per_m_at(e.temperature_c))
+                                for (line, _), (pe, _), z in zip(sizes, pes, impedances)], e))
         solves = 1
     density, _ = ctx.regime.metal_density(ctx.spec.circuit.material)
     found = []
-    for (line, capacity), (pe, _), run in zip(sizes, pes, runs):
+    for (line, capacity), (pe, _), run, z in zip(sizes, pes, runs, impedances):
         iz, checks = thermal(ctx, capacity)
         extra = {"drop_pct": None, "total": None, "fault_current": None}
         if run is not None:
@@ -219,6 +238,6 @@ def evaluate(ctx: Context, sizes: list[tuple[Conductor, Capacity]], with_network
             voltage_drop_pct=extra["drop_pct"], total_drop_pct=extra["total"],
             zs_ohm=None if run is None else run.zs_ohm, earth_fault_current_a=extra["fault_current"],
             metal_mass_kg=mass, r1_ohm=None if run is None else run.r1_ohm,
-            r2_ohm=None if run is None else run.r2_ohm,
+            r2_ohm=None if run is None else run.r2_ohm, line_impedance=z, drop_phases=ctx.spec.load.phases,
         ))
     return found, solves

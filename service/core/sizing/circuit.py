@@ -10,7 +10,7 @@ of service/core/chains/circuit.py).
   angle (lagging), so the drop is the design current's.  Single-phase: one
   go-and-return cable run (line and neutral); three-phase, balanced: one run
   per line, the currents returning through the star point (no neutral
-  current).  Conductors at the insulation's maximum operating temperature.
+  current).  Line conductors at the impedance the regime gives (RunCase).
   Drop = U0 - Re(V at the load), line to neutral: the part of the load voltage
   in phase with the supply EMF, the quantity IEC 60364-5-52 Annex G's formula
   gives (it differs from U0 - |V| by second-order terms, and unlike it keeps
@@ -34,10 +34,20 @@ from service.core.network import CableRun, CurrentSource, Network, SolveOptions,
 class RunCase:
     line: Conductor
     pe: Conductor
-    # A regime with tabulated AC impedances (NEC Chapter 9 Table 9) gives them here; otherwise the line's
-    # resistance at the operating temperature and the regime's one reactance are used.
+    # The line's AC resistance and reactance for the load flow (NEC: Chapter 9 Table 9; IEC: by arrangement,
+    # service.core.cable_impedance); otherwise its DC resistance at the operating temperature and the one reactance
+    # of Electrical are used.
     line_r_ohm_per_m: float | None = None
     line_x_ohm_per_m: float | None = None
+    # The line's resistance in the earth-fault loop, when it differs from the load flow's (IEC: the DC resistance at
+    # the maximum operating temperature while the drop may be at an estimated one); None: as the load flow's.
+    loop_r_ohm_per_m: float | None = None
+
+    def line_r(self, temperature_c: float) -> float:
+        return self.line.resistance_per_m_at(temperature_c) if self.line_r_ohm_per_m is None else self.line_r_ohm_per_m
+
+    def loop_r(self, temperature_c: float) -> float:
+        return self.line_r(temperature_c) if self.loop_r_ohm_per_m is None else self.loop_r_ohm_per_m
 
 
 @dataclass(frozen=True, slots=True)
@@ -66,7 +76,7 @@ class Electrical:
 
 def _elements(k: int, case: RunCase, e: Electrical) -> tuple[list, tuple[str, str] | None]:
     p = f"s{k}"
-    r_line = case.line.resistance_per_m_at(e.temperature_c) if case.line_r_ohm_per_m is None else case.line_r_ohm_per_m
+    r_line = case.line_r(e.temperature_c)
     x_line = e.reactance_ohm_per_m if case.line_x_ohm_per_m is None else case.line_x_ohm_per_m
     r_pe = case.pe.resistance_per_m_at(e.temperature_c)
     lag = -math.degrees(math.acos(e.power_factor))
@@ -89,7 +99,7 @@ def _elements(k: int, case: RunCase, e: Electrical) -> tuple[list, tuple[str, st
         return elements, None
     elements += [
         VoltageSource(f"{p}-fault", f"{p}-f0", "0", e.u0_v, internal_resistance_ohm=e.ze_ohm),
-        CableRun(f"{p}-r1", f"{p}-f0", f"{p}-f1", e.length_m, r_line),
+        CableRun(f"{p}-r1", f"{p}-f0", f"{p}-f1", e.length_m, case.loop_r(e.temperature_c)),
         CableRun(f"{p}-r2", "0", f"{p}-pe", e.length_m, r_pe),
     ]
     return elements, (f"{p}-f1", f"{p}-pe")
@@ -117,8 +127,7 @@ def solve_runs(cases: list[RunCase], e: Electrical) -> list[RunSolution]:
         found.append(RunSolution(
             drop_v=e.u0_v - v_load,
             zs_ohm=None if thevenin is None else thevenin.impedance_ohm,
-            r1_ohm=(case.line.resistance_per_m_at(e.temperature_c) if case.line_r_ohm_per_m is None
-                    else case.line_r_ohm_per_m) * e.length_m,
+            r1_ohm=case.loop_r(e.temperature_c) * e.length_m,
             r2_ohm=case.pe.resistance_per_m_at(e.temperature_c) * e.length_m,
         ))
     return found

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 
+from service.core.cable_impedance import REACTANCE_SOURCE, RESISTANCE_SOURCE, arrangement_for
 from service.core.conductors import Conductor
 from service.core.errors import CalcError, calc_error
 from service.core.protection import CircuitBreaker, GGFuse, ResidualCurrentDevice, required_disconnection_time
@@ -118,8 +119,11 @@ def context(spec: SizingInput, regime: Regime) -> tuple[Context, list[Step]]:
     electrical = Electrical(spec.load.phases, spec.supply.u0_v, spec.supply.frequency_hz, c.length_m, ib,
                             spec.load.power_factor, spec.supply.ze_ohm, regime.operating_temperature_c(c.insulation),
                             regime.reactance_ohm_per_m)
+    drop_ambient = None
+    if c.drop_temperature_basis == "estimated_from_load":
+        drop_ambient = c.ambient_c if c.ambient_c is not None else regime.reference_ambient_c(c.method)
     ctx = Context(spec, regime, loaded, ib, device, protective, rcd, factors, product, required_iz,
-                  drop.limit_pct, t, electrical, _pe_rule(spec, regime), live)
+                  drop.limit_pct, t, electrical, _pe_rule(spec, regime), live, drop_ambient)
     steps = [ib_step,
              Step("Rated current In", "smallest standard rating >= Ib" if device.chosen_by_service else "given",
                   device.rated_current_a, "A", device.label),
@@ -154,9 +158,7 @@ def _sizes(ctx: Context) -> list[tuple[Conductor, Capacity]]:
 def _assumptions(ctx: Context) -> tuple[str, ...]:
     e = ctx.electrical
     return (
-        f"Conductors: IEC 60228 class 2 maximum resistance, taken at the insulation's maximum operating temperature "
-        f"({e.temperature_c:g} °C) for both the voltage drop and the earth-fault loop (conservative).",
-        f"Reactance {ctx.regime.reactance_ohm_per_m * 1000:g} mΩ/m per conductor ({ctx.regime.reactance_source}).",
+        *_drop_assumptions(ctx),
         "The load draws the design current at its power factor (lagging), phase referred to the supply EMF; "
         + ("three-phase load balanced, so no neutral current and no neutral drop." if e.phases == "three" else
            "single-phase: line and neutral of the same size."),
@@ -169,6 +171,43 @@ def _assumptions(ctx: Context) -> tuple[str, ...]:
         "A service-chosen gG rating is the smallest standard rating with IEC 60269-1 gates held (16 A and up).",
         "Harmonic currents in the neutral (IEC 60364-5-52 Annex E) are not considered.",
     )
+
+
+def _drop_assumptions(ctx: Context) -> tuple[str, ...]:
+    """What the voltage drop's impedance rests on: temperature basis, resistance, reactance and geometry."""
+    e, c = ctx.electrical, ctx.spec.circuit
+    if ctx.drop_ambient_c is None:
+        temperature = (f"Voltage drop (basis maximum_operating): conductors at the insulation's maximum operating "
+                       f"temperature {e.temperature_c:g} °C (conservative).")
+    else:
+        temperature = (f"Voltage drop (basis estimated_from_load): conductor temperature estimated per size as "
+                       f"θ = θa + (θmax − θa)(Ib/Iz)² with θa {ctx.drop_ambient_c:g} °C, θmax {e.temperature_c:g} °C "
+                       "(the temperature rise taken proportional to the losses, I²: common practice); a size with Ib "
+                       "above its Iz gets a temperature above θmax.")
+    arrangement = arrangement_for(c.cable, c.method, c.formation)
+    notes = [
+        temperature,
+        f"Earth-fault loop: IEC 60228 class 2 maximum DC resistance at {e.temperature_c:g} °C, whatever the drop "
+        "basis (conservative).",
+        f"Drop impedance per line conductor: AC resistance by {RESISTANCE_SOURCE}; reactance by {REACTANCE_SOURCE}, "
+        f"at {e.frequency_hz:g} Hz, for the arrangement '{arrangement}' (from the cable, method and formation; per "
+        "size in line_impedance_basis).",
+        "Conductor and cable diameters for the spacing (an assumption, not data of the cable used): a solid round "
+        "conductor of the nominal area, and a 0.6/1 kV sheathed single-core cable with the PVC/A insulation of "
+        "IEC 60502-1 Table 5 (from memory) and a sheath of 0.035 D + 1.0 mm, at least 1.4 mm (IEC 60502-1 13.3.3, "
+        "from memory); both put the spacing, and the reactance, on the high side.",
+    ]
+    if arrangement == "enclosed":
+        notes.append("Single-core cables in conduit or trunking (method A1/B1) lie at random: the reactance is taken "
+                     "at the geometric mean spacing of cables flat and spaced one diameter (2^(1/3) x 2 De), at or "
+                     "above the enclosed columns of BS 7671 Table 4E1B.")
+    if c.cable == "single_core" and c.formation == "flat_spaced" and c.method == "F":
+        notes.append("Flat spaced single-core cables in air: the capacity is the flat touching one of method F "
+                     "(spaced cables carry more; method G is not held): conservative.")
+    if c.cable == "single_core" and c.method == "D1":
+        notes.append("Method D1 with single-core cables: the cables of the circuit share one duct, in the formation "
+                     "given; cables in separate ducts are further apart and have a higher reactance (not modelled).")
+    return tuple(notes)
 
 
 def _cautions(ctx: Context) -> tuple[str, ...]:
@@ -200,6 +239,11 @@ def _result(ctx: Context, mode: str, verdict: str, chosen: SizeEvaluation | None
         if chosen.total_drop_pct is not None:
             steps.append(Step("Chosen size: voltage drop", "solved network, U0 - Re(V at the load)", chosen.voltage_drop_v,
                               "V", "service.core.network"))
+            z = chosen.line_impedance
+            if z is not None:
+                steps.append(Step("Chosen size: line conductor impedance", f"r {z.r_ohm_per_m * 1e3:.4g}, x "
+                                  f"{z.x_ohm_per_m * 1e3:.4g} mΩ/m per conductor; {z.basis}", z.z_ohm_per_m, "ohm/m",
+                                  f"{RESISTANCE_SOURCE}; {REACTANCE_SOURCE}"))
             steps.append(Step("Chosen size: Zs", "Thevenin impedance of the loop, Ze + R1 + R2", chosen.zs_ohm, "ohm",
                               "service.core.network"))
     ways = tuple(WAYS_OUT[name] for name in CHECK_ORDER if name in binding)
@@ -214,6 +258,7 @@ def _result(ctx: Context, mode: str, verdict: str, chosen: SizeEvaluation | None
         chosen=chosen, governing_check=governing, rejected=tuple(rejected), binding_checks=binding, ways_out=ways,
         steps=tuple(steps), assumptions=_assumptions(ctx), cautions=_cautions(ctx),
         table_ids=ctx.regime.table_ids(), solves=solves,
+        drop_temperature_basis=ctx.spec.circuit.drop_temperature_basis,
     )
 
 

@@ -9,6 +9,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Literal
 
+from ..cable_impedance import LineImpedance
 from ..steps import Step  # noqa: F401  (re-exported: results carry their steps)
 
 Phases = Literal["single", "three"]
@@ -17,6 +18,7 @@ Use = Literal["lighting", "other"]
 SupplyKind = Literal["public_lv", "private_lv"]
 PeMode = Literal["same_as_line", "given", "minimum"]
 CircuitKind = Literal["socket_outlets", "fixed_equipment", "distribution"]
+DropTemperatureBasis = Literal["maximum_operating", "estimated_from_load"]
 METHODS = ("A1", "A2", "B1", "B2", "C", "D1", "D2", "E", "F")
 BURIED_METHODS = ("D1", "D2")
 ARRANGEMENTS = ("bunched", "single_layer_wall", "single_layer_ceiling", "perforated_tray", "ladder_or_cleats", "buried")
@@ -42,7 +44,9 @@ class CircuitSpec:
     material: str = "copper"
     insulation: str = "pvc_70"
     cable: Literal["multicore", "single_core"] = "multicore"
-    formation: Literal["trefoil", "flat_touching"] = "trefoil"  # method F, three loaded conductors
+    # Single-core cables: the capacity column of method F (flat_spaced takes flat_touching's, lower: conservative)
+    # and, outside conduit (methods C, D1, D2, F), the arrangement of the reactance.
+    formation: Literal["trefoil", "flat_touching", "flat_spaced"] = "trefoil"
     ambient_c: float | None = None  # None: the reference (30 °C air, 20 °C ground)
     ambient_medium: Literal["air", "ground"] | None = None  # None: as the method implies
     grouped_circuits: int = 1
@@ -51,6 +55,9 @@ class CircuitSpec:
     thermal_insulation_length_m: float = 0.0
     soil_resistivity_k_m_per_w: float | None = None  # None: the reference 2.5 K·m/W
     neutral: bool = True  # three-phase: a neutral conductor runs with the lines (counts in the mass)
+    # The conductor temperature of the voltage drop: the insulation's maximum (conservative), or estimated from the
+    # load, theta = theta_a + (theta_max - theta_a) (Ib / Iz)^2.  The earth-fault loop stays at the maximum.
+    drop_temperature_basis: DropTemperatureBasis = "maximum_operating"
 
 
 @dataclass(frozen=True, slots=True)
@@ -151,6 +158,10 @@ class SizeEvaluation:
     metal_mass_kg: float
     r1_ohm: float | None
     r2_ohm: float | None
+    # The line conductor's series impedance used for the drop (cable_impedance.LineImpedance); None where the
+    # regime gives none or no drop was solved.
+    line_impedance: LineImpedance | None = None
+    drop_phases: str | None = None  # "single" or "three": how the impedance reads as the tables' mV/A/m
 
     @property
     def passes(self) -> bool:
@@ -187,3 +198,4 @@ class SizingResult:
     table_ids: tuple[str, ...]
     solves: int
     raceway: object | None = None  # NEC: the raceway fill of the chosen size (nec.fill.FillResult), when a raceway is given
+    drop_temperature_basis: str | None = None  # IEC: maximum_operating or estimated_from_load

@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from functools import lru_cache
 from typing import Protocol
 
+from service.core.cable_impedance import ANNEX_G_REACTANCE_OHM_PER_M, LineImpedance, arrangement_for, line_impedance
 from service.core.conductors import Conductor, ConductorLibrary, default_library
 from service.core.errors import calc_error
 from service.core.protection import ProtectionLibrary, default_protection
@@ -42,8 +43,8 @@ from .tables import (
 )
 
 CONDUCTOR_CLASS = 2  # stranded (IEC 60228 Table 2): the class of installation cables
-# IEC 60364-5-52:2009 Annex G: reactance per unit length lambda = 0.08 mOhm/m when nothing else is known.
-ANNEX_G_REACTANCE_OHM_PER_M = 0.08e-3
+# IEC 60364-5-52:2009 Annex G: lambda = 0.08 mOhm/m when nothing else is known (the fallback of Electrical; the
+# drop itself takes each size's impedance by arrangement, service.core.cable_impedance, which never goes below it).
 ANNEX_G_SOURCE = "IEC 60364-5-52:2009, Annex G: reactance per unit length 0.08 mΩ/m in the absence of other details"
 OPERATING_TEMPERATURE_C = {"pvc_70": 70.0, "xlpe_epr_90": 90.0}  # IEC 60364-5-52 Table 52.1 (from memory)
 # IEC 60364-4-43:2008, 433.1: I2 <= 1.45 Iz.
@@ -101,9 +102,12 @@ class Regime(Protocol):
 
     def validate(self, circuit: CircuitSpec) -> None: ...
     def ambient_medium(self, method: str) -> str: ...
+    def reference_ambient_c(self, method: str) -> float: ...
     def operating_temperature_c(self, insulation: str) -> float: ...
     def sizes(self, circuit: CircuitSpec, loaded: int) -> tuple[Conductor, ...]: ...
     def conductor(self, area_m2: float, material: str) -> Conductor: ...
+    def line_impedance(self, circuit: CircuitSpec, line: Conductor, loaded: int, temperature_c: float,
+                       frequency_hz: float) -> LineImpedance: ...
     def tabulated_capacity(self, circuit: CircuitSpec, loaded: int, area_m2: float) -> Capacity | None: ...
     def correction_factors(self, circuit: CircuitSpec) -> tuple[Factor, ...]: ...
     def device_ratings(self, device_type: str) -> tuple[float, ...]: ...
@@ -140,6 +144,10 @@ class Iec60364Regime:
     def ambient_medium(self, method: str) -> str:
         return "ground" if method in BURIED_METHODS else "air"
 
+    def reference_ambient_c(self, method: str) -> float:
+        """The ambient of the capacity tables: 30 °C in air, 20 °C in the ground (Tables B.52.14, B.52.15)."""
+        return AMBIENT_TABLES[self.ambient_medium(method)][1]
+
     def validate(self, c: CircuitSpec) -> None:
         method = c.method
         implied = self.ambient_medium(method)
@@ -170,6 +178,11 @@ class Iec60364Regime:
             raise _blame("contradictory-input", "A buried run cannot also run through building thermal insulation here.",
                          "Give thermal_insulation_length 0 for methods D1 and D2.",
                          (("circuit", "thermal_insulation_length"), "not for buried methods"))
+        if c.cable == "single_core" and c.formation == "flat_spaced" and method in ("A1", "B1"):
+            raise _blame("contradictory-input",
+                         f"Method {method} runs the cables in conduit or trunking, where they cannot be spaced.",
+                         "Leave formation out (or trefoil) for methods A1 and B1, or choose a method in air (C, F).",
+                         (("circuit", "formation"), f"method {method} is in conduit or trunking"))
         if c.grouped_circuits > 1:
             self._check_arrangement(c)
 
@@ -202,7 +215,9 @@ class Iec60364Regime:
         m = method or c.method
         formation = None
         if m == "F":
-            formation = "touching" if loaded == 2 else c.formation
+            # Spaced cables carry more than touching ones; method G is not held, so flat_spaced takes the flat
+            # touching column (conservative, named in the assumptions).
+            formation = "touching" if loaded == 2 else "flat_touching" if c.formation == "flat_spaced" else c.formation
         return CapacityKey(c.insulation, loaded, c.material, m, formation)
 
     def conductor(self, area_m2: float, material: str) -> Conductor:
@@ -211,6 +226,11 @@ class Iec60364Regime:
             raise _blame("unknown-conductor", f"No class 2 {material} conductor of {area_m2 / MM2:g} mm² is listed.",
                          "Choose a listed IEC 60228 size.", (("circuit", "size"), "not a listed size"))
         return found
+
+    def line_impedance(self, c: CircuitSpec, line: Conductor, loaded: int, temperature_c: float,
+                       frequency_hz: float) -> LineImpedance:
+        return line_impedance(line, temperature_c, frequency_hz, arrangement_for(c.cable, c.method, c.formation),
+                              loaded, self.t.cable_geometry)
 
     def sizes(self, c: CircuitSpec, loaded: int) -> tuple[Conductor, ...]:
         column = self.t.capacities.get(self._key(c, loaded))

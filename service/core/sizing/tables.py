@@ -16,6 +16,7 @@ from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
 
+from service.core.cable_impedance import GEOMETRY_TABLE, cable_geometry
 from service.core.data import DataTable, load_tables
 from service.core.errors import DataTableError
 
@@ -291,7 +292,7 @@ class SizingTables:
     def __init__(self, tables: dict[str, DataTable]) -> None:
         wanted = (*ENCLOSED_TABLES, *FREE_AIR_TABLES, *(t for t, _ in AMBIENT_TABLES.values()), SOIL_TABLE,
                   GROUPING_AIR_TABLE, GROUPING_DIRECT_TABLE, GROUPING_DUCT_TABLE, INSULATION_TABLE, DROP_TABLE, PE_TABLE,
-                  BREAKER_CONVENTIONAL_TABLE, FUSE_CONVENTIONAL_TABLE, *DENSITY_TABLES)
+                  BREAKER_CONVENTIONAL_TABLE, FUSE_CONVENTIONAL_TABLE, *DENSITY_TABLES, GEOMETRY_TABLE)
         self.tables = {t: tables[t] for t in wanted}
         columns: list[CapacityColumn] = []
         for table_id in ENCLOSED_TABLES:
@@ -320,6 +321,7 @@ class SizingTables:
         self.breaker_conventional = _breaker_conventional(tables[BREAKER_CONVENTIONAL_TABLE])
         self.fuse_conventional = _fuse_conventional(tables[FUSE_CONVENTIONAL_TABLE])
         self.densities = _densities(tables)
+        self.cable_geometry = cable_geometry(tables[GEOMETRY_TABLE])  # for the reactance by arrangement
 
     def source(self, table_id: str) -> str:
         t = self.tables[table_id]

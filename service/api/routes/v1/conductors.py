@@ -18,7 +18,7 @@ from service.api.inputs import FieldReader
 from service.api.problems import error_responses
 from service.api.schemas.v1.common import GENERAL_CAUTIONS, CalculationNotes, SourceRef, Step
 from service.api.schemas.v1.conductors import ConductorList, ConductorOut, RunResistanceRequest, RunResistanceResult
-from service.core.conductors import Conductor, default_library, run_resistance
+from service.core.conductors import Conductor, default_library, run_resistance, temperature_law_source
 from service.core.data import load_tables
 from service.units import LENGTH, TEMPERATURE
 
@@ -83,7 +83,7 @@ def compute_run_resistance(data: RunResistanceRequest) -> RunResistanceResult:
              value=conductor.resistance_ohm_per_m, unit="ohm/m", source=f"{table.standard} {table.table}"),
         Step(name="Resistance at conductor temperature",
              formula=f"R_t = R_ref x ({k:g} + t) / ({k:g} + {conductor.reference_temperature_c:g})",
-             value=run.resistance_ohm_per_m, unit="ohm/m", source="IEC 60228:2004, Annex B"),
+             value=run.resistance_ohm_per_m, unit="ohm/m", source=temperature_law_source(conductor.material)),
         Step(name="One conductor", formula="R = R_t x L", value=run.one_way_ohm, unit="ohm"),
         Step(name="Go and return", formula="R_loop = 2 x R_t x L", value=run.loop_ohm, unit="ohm"),
     ]
@@ -123,7 +123,7 @@ _EXAMPLES = {
     description=(
         "Resistance of a run of one conductor size at a given conductor temperature: per metre, one way, and "
         "go-and-return (loop). The tabulated maximum resistance is corrected from the table's reference temperature "
-        "with the linear law of IEC 60228 Annex B. Every step and source is listed in `notes`."
+        "with the linear law of IEC 60228 Annex B (formula B.1 for copper, B.2 for aluminium). Every step and source is listed in `notes`."
     ),
     status_code=200,
     responses={

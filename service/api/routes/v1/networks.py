@@ -38,6 +38,7 @@ from service.api.routes.v1.conductors import source_refs
 from service.api.schemas.v1 import networks as s
 from service.api.schemas.v1.common import GENERAL_CAUTIONS, CalculationNotes, Step
 from service.api.settings import Settings
+from service.core.conductors import temperature_law_source
 from service.core.network import (
     ArrayElementResult,
     DeadlineExceededError,
@@ -220,7 +221,7 @@ def _notes(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> 
             name=f"Cable run {e.id}: resistance per metre at {use.temperature_c:g} °C",
             formula=f"R_t = R_{ref:g} x ({kc:g} + t) / ({kc:g} + {ref:g}), {c.size_label} {c.material.name} class "
                     f"{c.conductor_class}",
-            value=use.resistance_ohm_per_m, unit="ohm/m", source="IEC 60228:2004, Annex B",
+            value=use.resistance_ohm_per_m, unit="ohm/m", source=temperature_law_source(c.material),
         ))
         steps.append(Step(
             name=f"Cable run {e.id}: resistance", formula="R = R_t x L" + (" x 2 (go and return)" if e.go_and_return else ""),

@@ -22,10 +22,22 @@ from service.api.nec_input import to_nec_input
 from service.api.routes.v1.raceways import fill_out
 from service.api.sizing_input import to_sizing_input
 from service.core import sizing as core
+from service.core.cable_impedance import mv_per_a_m
 from service.core.sizing.regimes import sizing_regime
 
 SIZE_ID = "sizeConductor"
 VERIFY_ID = "verifyConductor"
+
+
+def _impedance_fields(ev: core.SizeEvaluation) -> dict:
+    z = ev.line_impedance
+    if z is None:
+        return {}
+    phases = ev.drop_phases or "single"
+    return dict(r_ohm_per_m=z.r_ohm_per_m, x_ohm_per_m=z.x_ohm_per_m, z_ohm_per_m=z.z_ohm_per_m,
+                r_mv_per_a_m=mv_per_a_m(z.r_ohm_per_m, phases), x_mv_per_a_m=mv_per_a_m(z.x_ohm_per_m, phases),
+                z_mv_per_a_m=mv_per_a_m(z.z_ohm_per_m, phases), drop_conductor_temperature_degc=z.temperature_c,
+                line_impedance_basis=z.basis)
 
 
 def _size_out(ev: core.SizeEvaluation) -> s.SizeOut:
@@ -39,6 +51,7 @@ def _size_out(ev: core.SizeEvaluation) -> s.SizeOut:
         checks=[s.CheckOut(name=c.name, passes=c.passes, value=c.value, limit=c.limit, unit=c.unit,
                            condition=c.condition, source=c.source, detail=c.detail, obligation=c.obligation)
                 for c in ev.checks],
+        **_impedance_fields(ev),
     )
 
 
@@ -56,7 +69,7 @@ def sizing_out(r: core.SizingResult) -> s.SizingResult:
         disconnection_time_source=r.disconnection_source,
         chosen=None if r.chosen is None else _size_out(r.chosen), governing_check=r.governing_check,
         rejected=[_size_out(ev) for ev in r.rejected], binding_checks=list(r.binding_checks), ways_out=list(r.ways_out),
-        raceway=None if r.raceway is None else fill_out(r.raceway),
+        raceway=None if r.raceway is None else fill_out(r.raceway), drop_temperature_basis=r.drop_temperature_basis,
         notes=CalculationNotes(
             steps=[Step(name=st.name, formula=st.formula, value=st.value, unit=st.unit, source=st.source) for st in r.steps],
             assumptions=list(r.assumptions),
@@ -142,7 +155,10 @@ _DESCRIPTION_COMMON = (
     " Regime iec60364 (the default), steps: design current Ib; device rating In (given, or the smallest standard rating >= Ib); correction factors "
     "for ambient (IEC 60364-5-52 Tables B.52.14/B.52.15), grouping (B.52.17 to B.52.19), thermal insulation and soil "
     "(B.52.16); the tabulated capacity (Annex B, Tables B.52.2 to B.52.5, B.52.10, B.52.12); overload coordination "
-    "Ib <= In <= Iz and I2 <= 1.45 Iz (IEC 60364-4-43 433.1); the voltage drop and the earth-fault loop impedance "
+    "Ib <= In <= Iz and I2 <= 1.45 Iz (IEC 60364-4-43 433.1); the voltage drop (each size's line impedance r, x, z "
+    "from the cable arrangement: AC resistance per IEC 60287-1-1, reactance from the conductor spacing, never below "
+    "Annex G's 0.08 mΩ/m; at the maximum conductor temperature or, on request, one estimated from the load) and the "
+    "earth-fault loop impedance "
     "Zs = Ze + R1 + R2 from the network solver, against Table G.52.1 and the device's maximum Zs for the disconnection "
     "time of IEC 60364-4-41; the adiabatic check of the protective and line conductors. A design that does not comply "
     "is a verdict in a 200 answer; a 422 means the inputs contradict each other or admit no answer."

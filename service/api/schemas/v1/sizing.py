@@ -79,8 +79,12 @@ class CircuitIn(Strict):
         description=f"{IEC}: PVC (conductor 70 °C) or XLPE/EPR (conductor 90 °C). Default pvc_70.")] = None
     cable: Annotated[Literal["multicore", "single_core"] | None, Meta(
         description=f"{IEC}: multicore cable or single-core cables. Default multicore.")] = None
-    formation: Annotated[Literal["trefoil", "flat_touching"] | None, Meta(
-        description=f"{IEC}: method F with three loaded conductors, trefoil or flat touching. Default trefoil.")] = None
+    formation: Annotated[Literal["trefoil", "flat_touching", "flat_spaced"] | None, Meta(description=(
+        f"{IEC}: how single-core cables are laid: trefoil (two cables: touching), flat touching, or flat spaced one "
+        "cable diameter apart. It sets the method F capacity column (flat_spaced takes the flat touching capacities, "
+        "which are lower: conservative) and the reactance of the voltage drop for methods C, D1, D2 and F; methods "
+        "A1 and B1 are in conduit or trunking (flat_spaced refused). Not used for multicore cables. Default "
+        "trefoil."))] = None
     ambient_temperature: quantity(TEMPERATURE, "35 degC", 30) | None = None  # type: ignore[valid-type]
     ambient_medium: Annotated[Literal["air", "ground"] | None, Meta(description=(
         "Optional: what the ambient temperature is of. Methods D1 and D2 are in ground, all others in air; a "
@@ -90,6 +94,10 @@ class CircuitIn(Strict):
     soil_thermal_resistivity: quantity(SOIL_THERMAL_RESISTIVITY, "2.5 K*m/W", 2.5) | None = None  # type: ignore[valid-type]
     neutral: Annotated[bool, Meta(description=(
         "Three-phase: a neutral runs with the lines (for the metal mass, and the NEC raceway fill)."))] = True
+    drop_temperature_basis: Annotated[Literal["maximum_operating", "estimated_from_load"] | None, Meta(description=(
+        f"{IEC}: the conductor temperature of the voltage drop: maximum_operating (the insulation's maximum, "
+        "conservative) or estimated_from_load (θ = θa + (θmax − θa)(Ib/Iz)² for each size). The earth-fault loop "
+        "is always at the maximum. Default maximum_operating."))] = None
     conductor_type: Annotated[ConductorTypeField | None, Meta(description=(
         f"{NEC}: insulated conductor type (Table 310.4(A)); its rating sets the ampacity column and its area "
         "(Chapter 9 Table 5) the raceway fill. Default THHN."))] = None
@@ -225,6 +233,22 @@ class SizeOut(Out):
     passes: bool
     failing_checks: list[str]
     checks: list[CheckOut]
+    r_ohm_per_m: Annotated[float | None, Meta(description=(
+        "Line conductor's AC resistance per metre used for the voltage drop, at drop_conductor_temperature_degc "
+        "(IEC 60364: skin and proximity effect per IEC 60287-1-1). None where no drop was solved or the regime "
+        "gives none."))] = None
+    x_ohm_per_m: Annotated[float | None, Meta(description=(
+        "Line conductor's reactance per metre at the supply frequency, from the arrangement "
+        "(line_impedance_basis)."))] = None
+    z_ohm_per_m: Annotated[float | None, Meta(description="√(r² + x²) per conductor per metre.")] = None
+    r_mv_per_a_m: Annotated[float | None, Meta(description=(
+        "r as the tables' mV/A/m: x 2 single-phase (line and neutral), x √3 three-phase (line to line)."))] = None
+    x_mv_per_a_m: Annotated[float | None, Meta(description="x as mV/A/m (as r_mv_per_a_m).")] = None
+    z_mv_per_a_m: Annotated[float | None, Meta(description="z as mV/A/m (as r_mv_per_a_m).")] = None
+    drop_conductor_temperature_degc: Annotated[float | None, Meta(description=(
+        "Conductor temperature of the voltage drop (see drop_temperature_basis)."))] = None
+    line_impedance_basis: Annotated[str | None, Meta(description=(
+        "Arrangement, diameters and spacing the reactance comes from, and the AC resistance factors."))] = None
 
 
 class TradeSizeOut(Out):
@@ -287,3 +311,6 @@ class SizingResult(Out):
     raceway: Annotated[RacewayFillOut | None, Meta(description=(
         "NEC with a raceway given: the smallest trade size for the chosen size's conductors and EGC."))]
     notes: CalculationNotes
+    drop_temperature_basis: Annotated[str | None, Meta(description=(
+        "IEC 60364: the conductor temperature basis of the voltage drop, maximum_operating or estimated_from_load "
+        "(circuit.drop_temperature_basis). None for the NEC (Chapter 9 Table 9 at 75 °C)."))] = None
