@@ -167,12 +167,13 @@ class NecRegime:
 
     def candidates(self, plan: Plan) -> list[Candidate]:
         material = plan.spec.circuit.material
-        table = self._ampacity_table(plan)
-        insulation = table[(material, plan.insulation_c)]
-        termination = table[(material, plan.termination_c)]
+        insulation = self._ampacity_table(plan)[(material, plan.insulation_c)]
+        # 110.14(C)(1): the termination limit is the Table 310.16 ampacity of the termination column, whatever
+        # table the conductor's own ampacity comes from (free air, Table 310.17, included).
+        termination = self.t.ampacity[(material, plan.termination_c)]
         return [Candidate(line, insulation[label], termination[label])
                 for label, line in sorted(self.sizes[material].items(), key=lambda kv: kv[1].area_m2)
-                if label in insulation and (material, plan.impedance_group, label) in self.t.impedance]
+                if label in insulation and label in termination and (material, plan.impedance_group, label) in self.t.impedance]
 
     def _ampacity_table(self, plan: Plan) -> dict:
         return self.t.free_air if plan.spec.circuit.installation == "free_air" else self.t.ampacity
@@ -193,7 +194,7 @@ class NecRegime:
                   f"{EDITION}, {'215.3' if plan.spec.circuit.role == 'feeder' else '210.20(A)'}"),
             Check("termination_ampacity", cand.termination_a >= split.required_a - 1e-9, cand.termination_a,
                   split.required_a, "A", f"{plan.termination_c} °C column >= 1.25 x continuous + non-continuous",
-                  f"{EDITION}, {section}(a) and 110.14(C); {self.t.source(self._ampacity_table_id(plan))}"),
+                  f"{EDITION}, {section}(a) and 110.14(C)(1); {self.t.source(AMPACITY_TABLE)}"),
             Check("ampacity", derated >= split.design_current_a - 1e-9, derated, split.design_current_a, "A",
                   "corrected and adjusted ampacity >= load", f"{EDITION}, {section}(b) and 310.15",
                   f"{cand.insulation_a:g} A ({plan.insulation_c} °C column) x {d.ambient:g} x {d.adjustment:g}"),
@@ -274,7 +275,8 @@ class NecRegime:
                 size_label=cand.line.size_label, area_m2=cand.line.area_m2, pe_size_label=egc.size_label,
                 pe_area_m2=egc.area_m2, tabulated_capacity_a=cand.insulation_a,
                 capacity_basis=(f"{self.t.tables[self._ampacity_table_id(plan)].table}, {material} {plan.insulation_c} "
-                                f"°C column; termination column {plan.termination_c} °C: {cand.termination_a:g} A"),
+                                f"°C column; termination column {plan.termination_c} °C (Table 310.16, 110.14(C)(1)): "
+                                f"{cand.termination_a:g} A"),
                 capacity_table_id=self._ampacity_table_id(plan), iz_a=ampacity, checks=tuple(checks),
                 voltage_drop_v=None if run is None else run.drop_v, voltage_drop_pct=drop_pct, total_drop_pct=total,
                 zs_ohm=None, earth_fault_current_a=None, metal_mass_kg=mass,
