@@ -151,6 +151,7 @@ class SizeEvaluation:
     metal_mass_kg: float
     r1_ohm: float | None
     r2_ohm: float | None
+    parallel_sets: int = 1  # conductors in parallel per line (NEC 310.10(G)); size_label is one conductor's
 
     @property
     def passes(self) -> bool:

@@ -10,7 +10,7 @@ from ..model import SizeEvaluation
 from .fill import FillResult
 from .plan import Plan
 from .rules import EDITION
-from .tables import IMPEDANCE_TABLE, NecTables
+from .tables import IMPEDANCE_TABLE, TABLE9_POWER_FACTOR, NecTables
 
 
 def chosen_steps(t: NecTables, plan: Plan, chosen: SizeEvaluation, table_id: str) -> list[Step]:
@@ -18,20 +18,31 @@ def chosen_steps(t: NecTables, plan: Plan, chosen: SizeEvaluation, table_id: str
     material = plan.spec.circuit.material
     z = t.impedance[(material, plan.impedance_group, chosen.size_label)]
     pf = plan.spec.load.power_factor
-    ze = z.r_ohm_per_m * pf + z.x_ohm_per_m * math.sin(math.acos(pf))
+    computed = z.r_ohm_per_m * pf + z.x_ohm_per_m * math.sin(math.acos(pf))
+    note2 = (f"R cos θ + X sin θ = {z.r_ohm_per_m * 304.8:.4g} x {pf:g} + {z.x_ohm_per_m * 304.8:.4g} x "
+             f"{math.sin(math.acos(pf)):.4g} ohm/kft")
+    at_table_pf = math.isclose(pf, TABLE9_POWER_FACTOR, abs_tol=1e-9)
+    # At 0.85 the table gives the effective Z itself (rounded from unrounded R and X); at any other power factor
+    # Note 2's formula is the only basis.
+    ze = z.z085_ohm_per_m if at_table_pf else computed
+    sets = chosen.parallel_sets
     k = 2.0 if plan.system.phases == "single" else math.sqrt(3)
-    approx = k * plan.spec.circuit.length_m * ze * plan.load.design_current_a
+    approx = k * plan.spec.circuit.length_m * ze / sets * plan.load.design_current_a
     steps = [
         Step("Chosen size: tabulated ampacity", chosen.capacity_basis, chosen.tabulated_capacity_a, "A",
              t.source(table_id)),
-        Step("Chosen size: ampacity for the conditions of use", "min(corrected and adjusted, termination column)",
-             chosen.iz_a, "A", f"{EDITION}, 310.15 and 110.14(C)"),
-        Step("Chosen size: effective Z", f"R cos θ + X sin θ = {z.r_ohm_per_m * 304.8:.4g} x {pf:g} + "
-             f"{z.x_ohm_per_m * 304.8:.4g} x {math.sin(math.acos(pf)):.4g} ohm/kft", ze, "ohm/m",
-             f"{t.source(IMPEDANCE_TABLE)}, Note 2"),
-        Step("Chosen size: voltage drop by effective Z", f"{'2' if k == 2 else '√3'} x L x Z x I (cross-check of the "
-             "solved value)", approx, "V", f"{t.source(IMPEDANCE_TABLE)}, Note 2"),
+        Step("Chosen size: ampacity for the conditions of use", "min(corrected and adjusted, termination column)"
+             + (f", x {sets} conductors in parallel" if sets > 1 else ""),
+             chosen.iz_a, "A", f"{EDITION}, 310.15 and 110.14(C)" + (", 310.10(G)" if sets > 1 else "")),
+        Step("Chosen size: effective Z", "Table 9 'Effective Z at 0.85 PF' column" if at_table_pf else note2, ze,
+             "ohm/m", f"{t.source(IMPEDANCE_TABLE)}" + ("" if at_table_pf else ", Note 2")),
     ]
+    if at_table_pf:
+        steps.append(Step("Chosen size: effective Z from R and X", note2, computed, "ohm/m",
+                          f"{t.source(IMPEDANCE_TABLE)}, Note 2 (the table's Z differs by its rounding)"))
+    steps.append(Step("Chosen size: voltage drop by effective Z", f"{'2' if k == 2 else '√3'} x L x Z x I"
+                      + (f" / {sets} sets" if sets > 1 else "") + " (cross-check of the solved value, which uses R and X)",
+                      approx, "V", f"{t.source(IMPEDANCE_TABLE)}, Note 2"))
     if chosen.voltage_drop_v is not None:
         factor = 1.0 if plan.system.phases == "single" else math.sqrt(3)
         steps.append(Step("Chosen size: voltage drop", "solved network" + (", line to line = √3 x line to neutral"
