@@ -49,7 +49,7 @@ def chosen_steps(t: NecTables, plan: Plan, chosen: SizeEvaluation, table_id: str
                           if factor != 1.0 else ""), chosen.voltage_drop_v * factor, "V", "service.core.network"))
     return steps
 
-def assumptions(plan: Plan) -> tuple[str, ...]:
+def assumptions(plan: Plan, chosen: SizeEvaluation | None, max_sets: int) -> tuple[str, ...]:
     c = plan.spec.circuit
     notes = [
         f"System {plan.system.name}: {plan.system.wires}; 60 Hz.",
@@ -75,6 +75,24 @@ def assumptions(plan: Plan) -> tuple[str, ...]:
                      "circuits sharing the raceway are not counted.")
     if plan.spec.load.continuous_share is None:
         notes.append("The whole load is taken as continuous (3 h or more): give load.continuous_share otherwise.")
+    notes.append(f"Conductors in parallel (310.10(G)) are tried only when no single conductor passes: 1/0 AWG and "
+                 f"larger, up to {max_sets} sets per line (a limit of the service), fewest sets first, then the "
+                 "smallest size.")
+    if chosen is not None and chosen.parallel_sets > 1:
+        notes.append(f"{chosen.parallel_sets} conductors in parallel per line share the current equally only if, per "
+                     "310.10(G)(2), they are of the same length, conductor material, size (circular mils) and "
+                     "insulation type and are terminated in the same manner; per 310.10(G)(3), raceways or cables "
+                     "of the sets have the same number of conductors and the same characteristics. R and X of the "
+                     "sets are divided by their number (no mutual coupling between sets).")
+        notes.append("All sets in one raceway: every conductor counts for the 310.15(C)(1) adjustment and one EGC "
+                     "runs with them (250.122(F)(1)(a))." if c.parallel_raceways == "shared" else
+                     "Each set runs in its own raceway or cable with its own full-size EGC (250.122(F)(1)(b)); the "
+                     "adjustment of 310.15(C)(1) counts the conductors of one raceway. Give parallel_raceways "
+                     "shared when all sets share one raceway.")
+    if plan.breaking is not None and not plan.interrupting_given:
+        notes.append(f"Interrupting rating not given: {plan.interrupting_rating_a / 1000:g} kA is assumed, a rating "
+                     "common for molded-case circuit breakers (common practice, from memory); give "
+                     "protection.interrupting_rating from the device's marking.")
     return tuple(notes)
 
 def cautions(t: NecTables, plan: Plan, fill: FillResult | None, table_ids: tuple[str, ...]) -> tuple[str, ...]:
@@ -89,6 +107,9 @@ def cautions(t: NecTables, plan: Plan, fill: FillResult | None, table_ids: tuple
     if any(t.tables[i].provenance != "published" for i in table_ids if i in t.tables):
         notes.append("Some NEC table values are from memory and not yet compared with the published tables: check "
                      "the result against NFPA 70 before relying on it (provenance in notes.sources).")
+    if plan.breaking is None:
+        notes.append("Not assessed: breaking_capacity (110.9, the device's interrupting rating against the fault "
+                     "current available at its line terminals): give supply.available_fault_current to check it.")
     if fill is not None and fill.chosen is None:
         notes.append(f"No {fill.raceway_name} trade size held (largest "
                      f"{fill.considered[-1].trade_size}) takes these conductors within the Chapter 9 fill.")
