@@ -10,6 +10,7 @@ from hypothesis import strategies as st
 
 from service.core.errors import CalcError
 from service.core.sizing.nec import RACEWAYS, SYSTEMS, FillConductor, NecCircuit, NecLoad, NecSizingInput, nec, raceway_fill
+from service.core.sizing.nec.ways_out import describe
 
 SETTINGS = settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 TYPES = ("TW", "THW", "THHN", "THWN-2", "XHHW-2")
@@ -90,6 +91,9 @@ def test_chosen_size_passes_verify_and_the_next_smaller_fails_a_named_check(spec
         smaller = _verify(spec, result.rejected[-1])
         assert smaller.verdict != "compliant" and smaller.binding_checks
         assert smaller.binding_checks[0] in {c.name for c in smaller.chosen.checks if not c.passes}
+        # its ways out name the size the search chose, which passes (not boilerplate)
+        assert f"{describe(result.chosen.size_label, result.chosen.parallel_sets)} every check with this device." \
+            in smaller.ways_out
 
 
 def _ampacity(result) -> float:

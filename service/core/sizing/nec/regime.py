@@ -8,7 +8,11 @@ protection with the next-size-up allowance and the small-conductor limits
 (240.4), voltage drop by the network solver with the AC resistance and
 reactance of Chapter 9 Table 9 (guidance of the informational notes, not a
 requirement), the EGC of Table 250.122 increased when the line is upsized
-(250.122(B)), and the raceway fill of Chapter 9 when a raceway is given.
+(250.122(B)), the interrupting rating against the available fault current
+(110.9) when that is given, and the raceway fill of Chapter 9 when a raceway
+is given.  When no single conductor passes, sets in parallel (310.10(G)):
+1/0 AWG and larger, fewest sets first, each set's EGC full size
+(250.122(F)).
 """
 
 from __future__ import annotations
@@ -63,6 +67,7 @@ DROP_SOURCE = (f"{EDITION}, 210.19(A) Informational Note No. 4 and 215.2(A)(2) I
                "(guidance, not a requirement)")
 CHECK_ORDER = ("device_rating", "breaking_capacity", "termination_ampacity", "ampacity", "overcurrent_protection",
                "small_conductor_protection", "equipment_grounding_conductor", "voltage_drop", "total_voltage_drop")
+DEVICE_CHECKS = ("device_rating", "breaking_capacity")  # checks of the device alone, which no conductor changes
 MAX_PARALLEL_SETS = 6  # the most conductors in parallel per line the search tries (a choice of the service)
 PARALLEL_MIN_SIZE = "1/0 AWG"  # 310.10(G)(1): conductors in parallel are 1/0 AWG and larger
 DEFAULT_INTERRUPTING_A = 10_000.0  # common practice for molded-case breakers (from memory), when none is given
@@ -336,7 +341,8 @@ class NecRegime:
 
     def _ampacity_minimum(self, plan: Plan, candidates: list[Candidate]) -> tuple[Conductor, int] | None:
         """The first size (and sets) whose current-carrying checks pass: the base of 250.122(B)'s proportion."""
-        return next(((c.line, c.sets) for c in candidates if all(ch.passes for ch in self._thermal(plan, c)[1])), None)
+        return next(((c.line, c.sets) for c in candidates
+                     if all(ch.passes for ch in self._thermal(plan, c)[1] if ch.name not in DEVICE_CHECKS)), None)
 
     def _minimum(self, plan: Plan, singles: list[Candidate]) -> tuple[Conductor, int] | None:
         return self._ampacity_minimum(plan, singles) or self._ampacity_minimum(plan, self.parallel_candidates(plan))
@@ -353,7 +359,8 @@ class NecRegime:
         evaluate = lambda batch, net: self._evaluate(plan, list(batch), net, minimum)  # noqa: E731
         found = smallest_passing(singles, evaluate)
         chosen, rejected, solves = found.chosen, list(found.rejected), found.solves
-        if chosen is None:  # no single conductor will do: sets in parallel (310.10(G)), fewest first
+        if chosen is None and not set(rejected[-1].failing) & set(DEVICE_CHECKS):
+            # no single conductor will do, and a larger one could: sets in parallel (310.10(G)), fewest first
             more = smallest_passing(self.parallel_candidates(plan), evaluate)
             chosen, rejected, solves = more.chosen, rejected + list(more.rejected), solves + more.solves
         steps = list(plan.steps)

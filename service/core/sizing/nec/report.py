@@ -84,7 +84,8 @@ def assumptions(plan: Plan, chosen: SizeEvaluation | None, max_sets: int) -> tup
                      "insulation type and are terminated in the same manner; per 310.10(G)(3), raceways or cables "
                      "of the sets have the same number of conductors and the same characteristics. R and X of the "
                      "sets are divided by their number (no mutual coupling between sets).")
-        notes.append("All sets in one raceway: every conductor counts for the 310.15(C)(1) adjustment and one EGC "
+        notes.append("All sets in one raceway: every conductor counts for the 310.15(C)(1) adjustment (310.10(G)(4)) "
+                     "and one EGC "
                      "runs with them (250.122(F)(1)(a))." if c.parallel_raceways == "shared" else
                      "Each set runs in its own raceway or cable with its own full-size EGC (250.122(F)(1)(b)); the "
                      "adjustment of 310.15(C)(1) counts the conductors of one raceway. Give parallel_raceways "
