@@ -25,6 +25,9 @@ def test_fault_current_above_the_given_rating_fails():
     check = next(c for c in result.rejected[-1].checks if c.name == "breaking_capacity")
     assert check.value == 14_000.0 and check.limit == 22_000.0 and not check.passes and "110.9" in check.source
     assert any("22 kA" in w and "110.9" in w for w in result.ways_out)
+    # with a device that passes 110.9, the conductor: 120 A on a 125 A device (Table 240.6(A)), 75 °C terminations
+    # (110.14(C)(1)(b)); Table 310.16 copper 75 °C: 2 AWG 115 A < 120 A, 1 AWG 130 A
+    assert "1 AWG passes every check with that device." in result.ways_out
 
 
 def test_fault_current_within_the_given_rating_passes():

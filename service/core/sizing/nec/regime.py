@@ -375,7 +375,10 @@ class NecRegime:
                                   chosen.parallel_sets * self.t.cmil[chosen.size_label], "cmil"))
             governing = governing_check(rejected, CHECK_ORDER) or "smallest_listed_size"
             return self._result(plan, "size", "compliant", chosen, rejected, governing, (), steps, solves)
-        binding = tuple(n for n in CHECK_ORDER if n in rejected[-1].failing)
+        failing = rejected[-1].failing
+        # A device check that fails binds alone: no conductor can pass it (ways_out then say what the conductor
+        # would be with a device that passes).
+        binding = tuple(n for n in CHECK_ORDER if n in failing and (n in DEVICE_CHECKS or not set(failing) & set(DEVICE_CHECKS)))
         return self._result(plan, "size", "no_compliant_size", None, rejected, binding[0], binding, steps, solves,
                             rejected[-1])
 

@@ -40,7 +40,7 @@ def _shorter_run(length_m: float, drop_pct: float | None, allowed_pct: float) ->
 
 def ways_out(regime: NecRegime, plan: Plan, mode: str, failed: SizeEvaluation, binding: tuple[str, ...]) -> tuple[str, ...]:
     """Suggestions for the binding checks of ``failed`` (the size verified, or the largest size the search tried)."""
-    from .regime import MAX_PARALLEL_SETS, TOTAL_DROP_PCT  # the regime imports this module
+    from .regime import DEVICE_CHECKS, MAX_PARALLEL_SETS, TOTAL_DROP_PCT  # the regime imports this module
 
     spec, t = plan.spec, regime.t
     checks = {c.name: c for c in failed.checks}
@@ -82,15 +82,26 @@ def ways_out(regime: NecRegime, plan: Plan, mode: str, failed: SizeEvaluation, b
                 out.append(f"Shorten the run to {run:g} m or less: {here} then keeps the drop within {allowed:.3g} %.")
             elif name == "total_voltage_drop":
                 out.append(f"The upstream drop ({spec.upstream_drop_pct:g} %) leaves nothing of the 5 %: reduce it.")
-    if any(n in SIZE_CHECKS for n in binding):
-        found = None
-        if mode == "verify":
-            found = regime.size(dataclasses.replace(spec, parallel_sets=1)).chosen
-            if found is not None:
-                out.append(f"{describe(found.size_label, found.parallel_sets)} every check with this device.")
-        if mode == "size" or found is None:
+    device_fails = [n for n in binding if n in DEVICE_CHECKS]
+    if any(n in SIZE_CHECKS for n in binding) or (mode == "size" and device_fails):
+        # The conductor the same search finds, with a device that passes its own checks where this one does not.
+        fixed = dataclasses.replace(spec, parallel_sets=1)
+        if "breaking_capacity" in device_fails:
+            fixed = dataclasses.replace(fixed, interrupting_rating_a=spec.available_fault_current_a)
+        if "device_rating" in device_fails:
+            fixed = dataclasses.replace(fixed, rated_current_a=None)
+        device = "that device" if device_fails else "this device"
+        if mode == "size" and not device_fails:
+            alternative = None  # the search already tried every size and set
+        else:
+            alternative = regime.size(fixed)
+        if alternative is not None and alternative.chosen is not None:
+            found = alternative.chosen
+            out.append(f"{describe(found.size_label, found.parallel_sets)} every check with {device}.")
+        else:
+            failing = [n for n in (binding if alternative is None else alternative.binding_checks) if n in SIZE_CHECKS]
             out.append(f"Even {SET_WORDS[MAX_PARALLEL_SETS]} sets of the largest size in parallel fail "
-                       f"{', '.join(n for n in binding if n in SIZE_CHECKS)}: split the load over more than one circuit "
-                       "or feeder" + (", or serve it at a higher voltage" if any("drop" in n for n in binding) else "")
-                       + ".")
+                       f"{', '.join(failing)}" + (f" with {device}" if device_fails else "")
+                       + ": split the load over more than one circuit or feeder"
+                       + (", or serve it at a higher voltage" if any("drop" in n for n in failing) else "") + ".")
     return tuple(dict.fromkeys(out))
