@@ -144,6 +144,19 @@ def test_parallel_sets_only_from_1_0_awg(spec):
         assert checks["equipment_grounding_conductor"].passes
 
 
+@SETTINGS
+@given(large_sizings())
+def test_termination_limit_is_always_the_table_310_16_column(spec):
+    # NFPA 70-2023, 110.14(C)(1): the termination limit is the Table 310.16 ampacity of the termination column, also
+    # for conductors in free air (Table 310.17 gives their own ampacity only)
+    result = _size(spec)
+    assume(result.chosen is not None)
+    column = next(s for s in result.steps if s.name == "Termination temperature column").value
+    termination = next(c for c in result.chosen.checks if c.name == "termination_ampacity").value
+    table = nec().t.ampacity[(spec.circuit.material, int(column))]
+    assert termination == result.chosen.parallel_sets * table[result.chosen.size_label]
+
+
 @st.composite
 def fills(draw):
     t = nec().t
