@@ -63,7 +63,9 @@ def assumptions(plan: Plan, chosen: SizeEvaluation | None, max_sets: int) -> tup
         "not a current-carrying conductor (310.15(E)(1)); count it in current_carrying_conductors where the load "
         "is mostly nonlinear (310.15(E)(3)).",
         "The 240.4(B) next-size-up allowance is taken where the device is 800 A or less: it does not apply to "
-        "multioutlet branch circuits supplying receptacles for cord-and-plug-connected loads (240.4(B)(1)).",
+        "multioutlet branch circuits supplying receptacles for cord-and-plug-connected loads (240.4(B)(1)). The "
+        "next standard rating is taken among those common to fuses and breakers (Table 240.6(A)'s fuse-only 1, 3, "
+        "6, 10 and 601 A are not used), the conservative reading when the device kind is not known.",
         "Sizes 700, 800 and 900 kcmil are not candidates: Chapter 9 Table 9 gives no values for them.",
         "The exceptions of 240.4(E) and (G) (tap conductors; motor, air-conditioning and other specific circuits) "
         "and of 210.19(A)(1) and 215.2(A)(1) for 100 %-rated assemblies are not applied.",
