@@ -49,6 +49,7 @@ def _circuit(reader: FieldReader, c: s.CircuitIn) -> NecCircuit:
         neutral=c.neutral,
         role=c.role or "branch",
         installation=c.installation or "raceway_or_cable",
+        parallel_raceways=c.parallel_raceways or "separate",
     )
 
 
@@ -68,6 +69,7 @@ def to_nec_input(req: s.SizingRequest | s.VerifyRequest) -> tuple[NecSizingInput
     check_protective_mode(reader, mode, pc)
     egc_size = None if pc.size is None else _size_label(reader, pc.size, "protective_conductor", "size")
     rated = req.protection.device.rated_current
+    interrupting, fault = req.protection.interrupting_rating, req.supply.available_fault_current
     spec = NecSizingInput(
         load=_load(reader, req.load, system),
         circuit=_circuit(reader, req.circuit),
@@ -77,6 +79,11 @@ def to_nec_input(req: s.SizingRequest | s.VerifyRequest) -> tuple[NecSizingInput
         upstream_drop_pct=req.limits.upstream_drop,
         egc_mode=mode,
         egc_size_label=egc_size,
+        interrupting_rating_a=None if interrupting is None else reader.quantity(interrupting, CURRENT, "protection",
+                                                                                 "interrupting_rating"),
+        available_fault_current_a=None if fault is None else reader.quantity(fault, CURRENT, "supply",
+                                                                             "available_fault_current"),
+        parallel_sets=getattr(req.circuit, "parallel_sets", None) or 1,
     )
     size = None
     if isinstance(req.circuit, s.VerifyCircuitIn):

@@ -133,7 +133,9 @@ IEC_ONLY = (("circuit", "method"), ("circuit", "insulation"), ("circuit", "cable
             ("limits", "supply_kind"))
 NEC_ONLY = (("load", "continuous_share"), ("circuit", "conductor_type"), ("circuit", "insulation_rating"),
             ("circuit", "termination_rating"), ("circuit", "raceway"), ("circuit", "current_carrying_conductors"),
-            ("circuit", "role"), ("circuit", "installation"), ("supply", "system"))
+            ("circuit", "role"), ("circuit", "installation"), ("supply", "system"),
+            ("circuit", "parallel_raceways"), ("circuit", "parallel_sets"), ("protection", "interrupting_rating"),
+            ("supply", "available_fault_current"))
 REGIME_NAMES = {"iec60364": "IEC 60364", "nec": "the NEC"}
 
 
@@ -143,7 +145,7 @@ def regime_fields(reader: FieldReader, req: s.SizingRequest) -> None:
     for path in foreign:
         value = req
         for name in path:
-            value = getattr(value, name)
+            value = getattr(value, name, None)  # None too where the request has no such field (verify-only ones)
         if value is not None:
             reader.add(f"applies to regime {owner} ({REGIME_NAMES[owner]}) only, not {req.regime}", *path)
 

@@ -177,7 +177,49 @@ def test_free_air_uses_table_310_17(client):
     body = ok(client.post(SIZE, json={"regime": "nec", "load": {"design_current": "100 A", "continuous_share": 0},
                                       "circuit": {"length": "30 ft", "installation": "free_air", "termination_rating": 75},
                                       "supply": {"system": "240V"}}))
-    # Table 310.17 copper 75 °C (from memory): 6 AWG 95 A < 100 A, 4 AWG 125 A -> 4 AWG (Table 310.16 would give 3 AWG)
-    assert body["chosen"]["size_label"] == "4 AWG" and "Table 310.17" in body["chosen"]["capacity_basis"]
+    # The conductor's ampacity from Table 310.17 (THHN 90 °C column), but the 75 °C termination limit from Table
+    # 310.16 (NEC 2023, 110.14(C)(1)): 4 AWG 85 A < 100 A, 3 AWG 100 A -> 3 AWG (Table 310.17's 75 °C column alone
+    # would have let 4 AWG, 125 A, through)
+    assert body["chosen"]["size_label"] == "3 AWG" and "Table 310.17" in body["chosen"]["capacity_basis"]
     body = problem(client.post(SIZE, json=nec_request(circuit={"installation": "free_air"})), 422)
     assert pointers(body) == {"/circuit/raceway", "/circuit/installation"}
+
+
+def test_parallel_sets_and_breaking_capacity_through_the_api(client):
+    # NEC 2023, 310.10(G): 600 A non-continuous on a 600 A device; 1000 kcmil alone 545 A (Table 310.16, 75 °C) is
+    # short, two sets of 350 kcmil (2 x 310 A = 620 A) pass; 250.122(F)(1)(b): a 1 AWG EGC in each raceway
+    body = ok(client.post(SIZE, json=nec_request(
+        load={"design_current": "600 A", "continuous_share": 0.0},
+        circuit={"length": "100 ft", "raceway": "emt", "role": "feeder"}, supply={"system": "480Y/277V",
+                                                                                  "available_fault_current": "18 kA"},
+        protection={"device": {"rated_current": "600 A"}, "interrupting_rating": "22 kA"})))
+    chosen = body["chosen"]
+    assert (chosen["parallel_sets"], chosen["size_label"], chosen["protective_conductor_size_label"]) == (2, "350 kcmil", "1 AWG")
+    # NEC 2023, 110.9: 22 kA >= 18 kA
+    breaking = next(c for c in chosen["checks"] if c["name"] == "breaking_capacity")
+    assert breaking["passes"] and breaking["value"] == 22000 and breaking["limit"] == 18000
+    assert all(ev["parallel_sets"] == 1 for ev in body["rejected"][:5])
+    # NEC Table 310.16 ampacities are answered as floats, as the IEC regime's are
+    assert isinstance(chosen["tabulated_capacity_a"], float)
+
+
+def test_breaking_capacity_not_assessed_without_fault_current(client):
+    body = ok(client.post(SIZE, json=nec_request()))
+    assert not any(c["name"] == "breaking_capacity" for c in body["chosen"]["checks"])
+    assert any(c.startswith("Not assessed: breaking_capacity") for c in body["notes"]["cautions"])
+
+
+def test_verify_parallel_below_1_0_awg_is_a_422(client):
+    # NEC 2023, 310.10(G)(1): conductors in parallel 1/0 AWG and larger
+    body = problem(client.post(VERIFY, json=nec_request(circuit={"size": "2 AWG", "parallel_sets": 2})), 422)
+    assert pointers(body) == {"/circuit/size", "/circuit/parallel_sets"}
+
+
+def test_new_nec_fields_with_iec_are_named(client):
+    body = problem(client.post(VERIFY, json={
+        "load": {"design_current": "20 A"}, "circuit": {"length": "25 m", "method": "C", "size": "2.5 mm^2",
+                                                          "parallel_sets": 2, "parallel_raceways": "shared"},
+        "protection": {"interrupting_rating": "10 kA"},
+        "supply": {"ze": "0.35 ohm", "available_fault_current": "6 kA"}}), 422)
+    assert pointers(body) == {"/circuit/parallel_sets", "/circuit/parallel_raceways", "/protection/interrupting_rating",
+                              "/supply/available_fault_current"}

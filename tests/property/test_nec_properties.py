@@ -10,6 +10,7 @@ from hypothesis import strategies as st
 
 from service.core.errors import CalcError
 from service.core.sizing.nec import RACEWAYS, SYSTEMS, FillConductor, NecCircuit, NecLoad, NecSizingInput, nec, raceway_fill
+from service.core.sizing.nec.ways_out import describe
 
 SETTINGS = settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 TYPES = ("TW", "THW", "THHN", "THWN-2", "XHHW-2")
@@ -35,11 +36,16 @@ def _size(spec):
         assume(False)
 
 
-def _rank(result) -> float:
-    """Position of the chosen size among the candidates (infinite when none passes)."""
+def _rank(result) -> tuple[float, float]:
+    """Position of the chosen size among the candidates: fewest sets in parallel first, then the smallest size
+    (infinite when none passes)."""
     if result.chosen is None:
-        return math.inf
-    return nec().t.cmil[result.chosen.size_label]
+        return (math.inf, math.inf)
+    return (result.chosen.parallel_sets, nec().t.cmil[result.chosen.size_label])
+
+
+def _verify(spec, ev):
+    return nec().verify(dataclasses.replace(spec, parallel_sets=ev.parallel_sets), ev.size_label)
 
 
 @SETTINGS
@@ -57,12 +63,12 @@ def test_chosen_size_carries_125_percent_of_the_continuous_load(spec):
 
 
 @SETTINGS
-@given(nec_sizings(), st.floats(1.0, 2.0), st.sampled_from(["load", "length", "ambient", "conductors"]))
+@given(nec_sizings(), st.floats(1.0, 2.0), st.sampled_from(["length", "ambient", "conductors"]))
 def test_size_never_decreases_as_conditions_worsen(spec, factor, what):
     c = spec.circuit
-    if what == "load":
-        worse = dataclasses.replace(spec, load=dataclasses.replace(spec.load, design_current_a=spec.load.design_current_a * factor))
-    elif what == "length":
+    # (Not the load: more load may move the device past 100 A, where 110.14(C)(1)(b) allows the 75 °C column and a
+    # smaller size can pass, 1 AWG at 100 A, 2 AWG at 110 A; what never falls is the ampacity, tested below.)
+    if what == "length":
         worse = dataclasses.replace(spec, circuit=dataclasses.replace(c, length_m=c.length_m * factor))
     elif what == "ambient":
         worse = dataclasses.replace(spec, circuit=dataclasses.replace(c, ambient_c=c.ambient_c + 10 * (factor - 1)))
@@ -79,12 +85,76 @@ def test_size_never_decreases_as_conditions_worsen(spec, factor, what):
 def test_chosen_size_passes_verify_and_the_next_smaller_fails_a_named_check(spec):
     result = _size(spec)
     assume(result.chosen is not None)
-    again = nec().verify(spec, result.chosen.size_label)
+    again = _verify(spec, result.chosen)
     assert again.verdict == "compliant"
     if result.rejected:
-        smaller = nec().verify(spec, result.rejected[-1].size_label)
+        smaller = _verify(spec, result.rejected[-1])
         assert smaller.verdict != "compliant" and smaller.binding_checks
         assert smaller.binding_checks[0] in {c.name for c in smaller.chosen.checks if not c.passes}
+        # its ways out name the size the search chose, which passes (not boilerplate)
+        assert f"{describe(result.chosen.size_label, result.chosen.parallel_sets)} every check with this device." \
+            in smaller.ways_out
+
+
+def _ampacity(result) -> float:
+    return math.inf if result.chosen is None else result.chosen.iz_a
+
+
+@st.composite
+def large_sizings(draw) -> NecSizingInput:
+    """Feeders up to 2,000 A, in raceways (sets each in their own or all in one) or in free air."""
+    free_air = draw(st.booleans())
+    circuit = NecCircuit(
+        length_m=draw(st.floats(3.0, 200.0)), material=draw(st.sampled_from(["copper", "aluminium"])),
+        conductor_type=draw(st.sampled_from(["THHN", "THW", "XHHW-2"])), ambient_c=draw(st.floats(10.0, 45.0)),
+        raceway=None if free_air else draw(st.sampled_from([None, *RACEWAYS])), role="feeder",
+        installation="free_air" if free_air else "raceway_or_cable",
+        parallel_raceways="separate" if free_air else draw(st.sampled_from(["separate", "shared"])))
+    return NecSizingInput(NecLoad(design_current_a=draw(st.floats(5.0, 2000.0)), power_factor=draw(st.floats(0.7, 1.0)),
+                                  continuous_share=draw(st.floats(0.0, 1.0))),
+                          circuit, draw(st.sampled_from(["208Y/120V", "480Y/277V", "240V"])))
+
+
+@SETTINGS
+@given(large_sizings(), st.floats(1.0, 1.5))
+def test_chosen_ampacity_never_falls_as_the_load_rises(spec, factor):
+    # NFPA 70-2023, 210.19(A)/215.2(A) and 240.4: more load never needs less ampacity
+    more = dataclasses.replace(spec, load=dataclasses.replace(spec.load, design_current_a=spec.load.design_current_a * factor))
+    assert _ampacity(_size(more)) >= _ampacity(_size(spec)) - 1e-9
+
+
+@SETTINGS
+@given(large_sizings())
+def test_parallel_sets_only_from_1_0_awg(spec):
+    # NFPA 70-2023, 310.10(G)(1): conductors in parallel 1/0 AWG and larger; Chapter 9 Table 8: 1/0 = 105,600 cmil
+    result = _size(spec)
+    t = nec().t
+    for ev in (*result.rejected, *([result.chosen] if result.chosen else [])):
+        assert ev.parallel_sets == 1 or t.cmil[ev.size_label] >= 105_600
+    small = [label for label, cmil in t.cmil.items() if cmil < 105_600]
+    for way in result.ways_out:
+        if "in parallel" in way:
+            assert not any(f"sets of {label} " in way for label in small)
+    if result.chosen is not None and result.chosen.parallel_sets > 1:
+        # parallel sets only when no single conductor passes: every single size was rejected
+        assert {ev.size_label for ev in result.rejected if ev.parallel_sets == 1} == {
+            c.line.size_label for c in nec().candidates(nec().plan(spec))}
+        # 250.122(F)(1): the EGC is at least the Table 250.122 size for the device rating
+        checks = {c.name: c for c in result.chosen.checks}
+        assert checks["equipment_grounding_conductor"].passes
+
+
+@SETTINGS
+@given(large_sizings())
+def test_termination_limit_is_always_the_table_310_16_column(spec):
+    # NFPA 70-2023, 110.14(C)(1): the termination limit is the Table 310.16 ampacity of the termination column, also
+    # for conductors in free air (Table 310.17 gives their own ampacity only)
+    result = _size(spec)
+    assume(result.chosen is not None)
+    column = next(s for s in result.steps if s.name == "Termination temperature column").value
+    termination = next(c for c in result.chosen.checks if c.name == "termination_ampacity").value
+    table = nec().t.ampacity[(spec.circuit.material, int(column))]
+    assert termination == result.chosen.parallel_sets * table[result.chosen.size_label]
 
 
 @st.composite

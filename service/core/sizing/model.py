@@ -162,6 +162,7 @@ class SizeEvaluation:
     # regime gives none or no drop was solved.
     line_impedance: LineImpedance | None = None
     drop_phases: str | None = None  # "single" or "three": how the impedance reads as the tables' mV/A/m
+    parallel_sets: int = 1  # conductors in parallel per line (NEC 310.10(G)); size_label is one conductor's
 
     @property
     def passes(self) -> bool:

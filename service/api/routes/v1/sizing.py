@@ -42,7 +42,8 @@ def _impedance_fields(ev: core.SizeEvaluation) -> dict:
 
 def _size_out(ev: core.SizeEvaluation) -> s.SizeOut:
     return s.SizeOut(
-        size_label=ev.size_label, area_m2=ev.area_m2, protective_conductor_size_label=ev.pe_size_label,
+        size_label=ev.size_label, parallel_sets=ev.parallel_sets, area_m2=ev.area_m2,
+        protective_conductor_size_label=ev.pe_size_label,
         protective_conductor_area_m2=ev.pe_area_m2, tabulated_capacity_a=ev.tabulated_capacity_a,
         capacity_basis=ev.capacity_basis, iz_a=ev.iz_a, voltage_drop_v=ev.voltage_drop_v,
         voltage_drop_pct=ev.voltage_drop_pct, total_voltage_drop_pct=ev.total_drop_pct, zs_ohm=ev.zs_ohm,

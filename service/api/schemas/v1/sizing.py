@@ -118,10 +118,18 @@ class CircuitIn(Strict):
     installation: Annotated[Literal["raceway_or_cable", "free_air"] | None, Meta(description=(
         f"{NEC}: not more than three current-carrying conductors in raceway, cable or earth (Table 310.16), or "
         "single conductors in free air (Table 310.17). Default raceway_or_cable."))] = None
+    parallel_raceways: Annotated[Literal["separate", "shared"] | None, Meta(description=(
+        f"{NEC}: where conductors in parallel (310.10(G)) run, when one conductor per line is not enough: each set "
+        "in its own raceway or cable with its own full-size EGC (250.122(F)(1)(b)), or all sets in one raceway, where "
+        "every current-carrying conductor counts for the adjustment of 310.15(C)(1) (current_carrying_conductors "
+        "then counts one set) and one EGC runs with them. Default separate."))] = None
 
 
 class VerifyCircuitIn(CircuitIn, kw_only=True):
     size: ConductorSizeField
+    parallel_sets: Annotated[Annotated[int, Meta(ge=1, le=20)] | None, Meta(description=(
+        f"{NEC}: conductors in parallel per line, each of the size given (310.10(G): 1/0 AWG and larger when more "
+        "than one). Default 1."))] = None
 
 
 class DeviceIn(Strict):
@@ -145,6 +153,9 @@ class ProtectionIn(Strict):
         "is given. Default fixed_equipment."))] = None
     let_through_energy: quantity(LET_THROUGH_ENERGY, "25000 A^2*s", 25000) | None = None  # type: ignore[valid-type]
     """The device's let-through I²t at the prospective fault current (maker's data), for the short-circuit check."""
+    interrupting_rating: quantity(CURRENT, "22 kA", 22000) | None = None  # type: ignore[valid-type]
+    """NEC only: the device's interrupting rating at the system voltage (110.9), checked against
+    supply.available_fault_current. Default 10 kA, a rating common for molded-case breakers (common practice)."""
 
 
 class SupplyIn(Strict, kw_only=True):
@@ -157,6 +168,9 @@ class SupplyIn(Strict, kw_only=True):
     prospective_fault_current: quantity(CURRENT, "6 kA", 6000) | None = None  # type: ignore[valid-type]
     frequency: quantity(FREQUENCY, "50 Hz", 50) | None = None  # type: ignore[valid-type]
     electrode_resistance: quantity(IMPEDANCE, "60 ohm", 60) | None = None  # type: ignore[valid-type]
+    available_fault_current: quantity(CURRENT, "14 kA", 14000) | None = None  # type: ignore[valid-type]
+    """NEC only: the fault current available at the device's line terminals, for 110.9. Left out, the interrupting
+    rating is not assessed (the answer says so in its cautions)."""
     system: Annotated[Literal["120V", "240V", "277V", "208Y/120V", "480Y/277V"] | None, Meta(description=(
         f"{NEC}, and required there: the nominal system and circuit. 120V (line and neutral), 240V (two lines of "
         "120/240 V), 277V (line and neutral of 480Y/277 V), single-phase; 208Y/120V, 480Y/277V three-phase, 60 Hz."))] = None
@@ -215,7 +229,9 @@ class CheckOut(Out):
 
 
 class SizeOut(Out):
-    size_label: str
+    size_label: Annotated[str, Meta(description="One conductor's size (of each set, when parallel_sets > 1).")]
+    parallel_sets: Annotated[int, Meta(description=(
+        "Conductors in parallel per line (NEC 310.10(G)); 1 for a single conductor."))]
     area_m2: float
     protective_conductor_size_label: str
     protective_conductor_area_m2: float

@@ -57,6 +57,9 @@ class NecCircuit:
     neutral: bool = True  # three-phase: a neutral runs with the lines (fill and metal mass, not current-carrying)
     role: Literal["branch", "feeder"] = "branch"
     installation: Literal["raceway_or_cable", "free_air"] = "raceway_or_cable"  # Table 310.16 or Table 310.17
+    # Parallel sets (310.10(G)): each set in its own raceway or cable (250.122(F)(1)(b)), or all in one raceway,
+    # where every conductor counts for the adjustment of 310.15(C)(1).
+    parallel_raceways: Literal["separate", "shared"] = "separate"
 
 
 @dataclass(frozen=True, slots=True)
@@ -69,3 +72,6 @@ class NecSizingInput:
     upstream_drop_pct: float = 0.0
     egc_mode: Literal["minimum", "given", "same_as_line"] = "minimum"
     egc_size_label: str | None = None  # mode 'given': "10 AWG", "250 kcmil"
+    interrupting_rating_a: float | None = None  # the device's interrupting rating (110.9); None: a typical default
+    available_fault_current_a: float | None = None  # at the device's line terminals; None: 110.9 not assessed
+    parallel_sets: int = 1  # verify: conductors in parallel per line of the size verified (size ignores it)

@@ -7,7 +7,7 @@ from dataclasses import dataclass
 from service.core.conductors import Conductor
 from service.core.steps import Step
 
-from ..model import Device
+from ..model import Check, Device
 from .model import NecSizingInput, System
 from .rules import Derating, LoadSplit
 
@@ -15,8 +15,9 @@ from .rules import Derating, LoadSplit
 @dataclass(frozen=True, slots=True)
 class Candidate:
     line: Conductor
-    insulation_a: float  # Table 310.16 at the insulation's rating
-    termination_a: float  # Table 310.16 at the termination column
+    insulation_a: float  # one conductor: Table 310.16 (or 310.17) at the insulation's rating
+    termination_a: float  # one conductor: Table 310.16 at the termination column
+    sets: int = 1  # conductors in parallel per line (310.10(G))
 
 
 @dataclass(frozen=True, slots=True)
@@ -34,3 +35,7 @@ class Plan:
     impedance_group: str
     drop_limit_pct: float
     steps: tuple[Step, ...]
+    own_conductors: int  # the circuit's own current-carrying conductors (2 single-phase, 3 three-phase)
+    breaking: Check | None  # 110.9: the interrupting rating against the available fault current (None: not given)
+    interrupting_rating_a: float
+    interrupting_given: bool

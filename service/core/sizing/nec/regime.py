@@ -8,7 +8,11 @@ protection with the next-size-up allowance and the small-conductor limits
 (240.4), voltage drop by the network solver with the AC resistance and
 reactance of Chapter 9 Table 9 (guidance of the informational notes, not a
 requirement), the EGC of Table 250.122 increased when the line is upsized
-(250.122(B)), and the raceway fill of Chapter 9 when a raceway is given.
+(250.122(B)), the interrupting rating against the available fault current
+(110.9) when that is given, and the raceway fill of Chapter 9 when a raceway
+is given.  When no single conductor passes, sets in parallel (310.10(G)):
+1/0 AWG and larger, fewest sets first, each set's EGC full size
+(250.122(F)).
 """
 
 from __future__ import annotations
@@ -30,14 +34,17 @@ from .report import assumptions, cautions, chosen_steps
 from .rules import (
     EDITION,
     NEXT_SIZE_UP_LIMIT_A,
+    Derating,
     blame,
     derating,
     egc_required,
     next_rating_above,
+    sets_label,
     split_load,
     standard_rating,
     termination_rating,
 )
+from .ways_out import ways_out
 from .tables import (
     ADJUSTMENT_TABLE,
     AMBIENT_TABLE,
@@ -58,20 +65,12 @@ BRANCH_DROP_PCT = 3.0  # 210.19(A) Informational Note No. 4; 215.2(A)(2) Informa
 TOTAL_DROP_PCT = 5.0
 DROP_SOURCE = (f"{EDITION}, 210.19(A) Informational Note No. 4 and 215.2(A)(2) Informational Note No. 2 "
                "(guidance, not a requirement)")
-CHECK_ORDER = ("device_rating", "termination_ampacity", "ampacity", "overcurrent_protection",
+CHECK_ORDER = ("device_rating", "breaking_capacity", "termination_ampacity", "ampacity", "overcurrent_protection",
                "small_conductor_protection", "equipment_grounding_conductor", "voltage_drop", "total_voltage_drop")
-WAYS_OUT = {
-    "device_rating": "Give a device rated at least 125 % of the continuous load plus the non-continuous load, or leave "
-                     "the rating out for the service to choose it.",
-    "termination_ampacity": "Use equipment with terminations listed for 75 °C, or a larger conductor.",
-    "ampacity": "Reduce the number of current-carrying conductors in the raceway, keep the run out of the heat, or run "
-                "conductors in parallel (310.10(G)).",
-    "overcurrent_protection": "Choose a smaller device if the load allows it, or a larger conductor.",
-    "small_conductor_protection": "Use a larger conductor: 240.4(D) caps the device on 14, 12 and 10 AWG.",
-    "equipment_grounding_conductor": "Use an EGC at least the Table 250.122 size (increased per 250.122(B)).",
-    "voltage_drop": "Shorten the run, run conductors in parallel, or serve the load at a higher voltage.",
-    "total_voltage_drop": "Reduce the drop upstream (the feeder), or of this circuit.",
-}
+DEVICE_CHECKS = ("device_rating", "breaking_capacity")  # checks of the device alone, which no conductor changes
+MAX_PARALLEL_SETS = 6  # the most conductors in parallel per line the search tries (a choice of the service)
+PARALLEL_MIN_SIZE = "1/0 AWG"  # 310.10(G)(1): conductors in parallel are 1/0 AWG and larger
+DEFAULT_INTERRUPTING_A = 10_000.0  # common practice for molded-case breakers (from memory), when none is given
 
 
 class NecRegime:
@@ -124,6 +123,10 @@ class NecRegime:
                         "cable; Table 310.17 is for single conductors in free air.",
                         "Leave current_carrying_conductors out for free air.",
                         (("circuit", "current_carrying_conductors"), "not with installation free_air"))
+        if c.installation == "free_air" and c.parallel_raceways == "shared":
+            raise blame("contradictory-input", "Single conductors in free air (Table 310.17) share no raceway.",
+                        "Leave parallel_raceways out for free air.",
+                        (("circuit", "parallel_raceways"), "not with installation free_air"))
         conductors = c.current_carrying_conductors or own
         if conductors < own:
             raise blame("contradictory-input", f"The circuit itself has {own} current-carrying conductors.",
@@ -163,16 +166,47 @@ class NecRegime:
         ]
         if spec.upstream_drop_pct:
             steps.append(Step("Drop already used upstream", "given", spec.upstream_drop_pct, "%"))
-        return Plan(spec, system, load, device, insulation_c, termination_c, derate, conductors, group, limit, tuple(steps))
+        interrupting = DEFAULT_INTERRUPTING_A if spec.interrupting_rating_a is None else spec.interrupting_rating_a
+        breaking = None
+        if spec.available_fault_current_a is not None:
+            fault = spec.available_fault_current_a
+            breaking = Check("breaking_capacity", interrupting >= fault - 1e-9, interrupting, fault, "A",
+                             "interrupting rating >= available fault current at the line terminals",
+                             f"{EDITION}, 110.9",
+                             f"at the nominal {system.name} system; rating "
+                             + ("given" if spec.interrupting_rating_a is not None else
+                                f"not given: {interrupting / 1000:g} kA assumed, a rating common for molded-case "
+                                "breakers (common practice, from memory); confirm the device's marked rating (240.83(C))"))
+        return Plan(spec, system, load, device, insulation_c, termination_c, derate, conductors, group, limit, tuple(steps),
+                    own, breaking, interrupting, spec.interrupting_rating_a is not None)
 
-    def candidates(self, plan: Plan) -> list[Candidate]:
+    def candidates(self, plan: Plan, sets: int = 1) -> list[Candidate]:
+        """The sizes for ``sets`` conductors in parallel per line, smallest first: every tabulated size for one,
+        1/0 AWG and larger for more (310.10(G)(1))."""
         material = plan.spec.circuit.material
-        table = self._ampacity_table(plan)
-        insulation = table[(material, plan.insulation_c)]
-        termination = table[(material, plan.termination_c)]
-        return [Candidate(line, insulation[label], termination[label])
+        smallest = self.t.cmil[PARALLEL_MIN_SIZE] if sets > 1 else 0.0
+        insulation = self._ampacity_table(plan)[(material, plan.insulation_c)]
+        # 110.14(C)(1): the termination limit is the Table 310.16 ampacity of the termination column, whatever
+        # table the conductor's own ampacity comes from (free air, Table 310.17, included).
+        termination = self.t.ampacity[(material, plan.termination_c)]
+        return [Candidate(line, insulation[label], termination[label], sets)
                 for label, line in sorted(self.sizes[material].items(), key=lambda kv: kv[1].area_m2)
-                if label in insulation and (material, plan.impedance_group, label) in self.t.impedance]
+                if label in insulation and label in termination and (material, plan.impedance_group, label) in self.t.impedance
+                and self.t.cmil.get(label, 0.0) >= smallest]
+
+    def parallel_candidates(self, plan: Plan) -> list[Candidate]:
+        """Two to MAX_PARALLEL_SETS sets, fewest sets first, then the smallest size."""
+        return [c for n in range(2, MAX_PARALLEL_SETS + 1) for c in self.candidates(plan, n)]
+
+    def _derate(self, plan: Plan, sets: int) -> tuple[Derating, int]:
+        """Correction and adjustment for ``sets`` in parallel: all in one raceway, every conductor counts for
+        310.15(C)(1); each set in its own raceway (or in free air), the single set's."""
+        c = plan.spec.circuit
+        if sets == 1 or c.parallel_raceways == "separate" or c.installation == "free_air":
+            return plan.derate, plan.conductors
+        conductors = plan.conductors + (sets - 1) * plan.own_conductors
+        ambient = 30.0 if c.ambient_c is None else c.ambient_c
+        return derating(self.t, plan.insulation_c, ambient, conductors), conductors
 
     def _ampacity_table(self, plan: Plan) -> dict:
         return self.t.free_air if plan.spec.circuit.installation == "free_air" else self.t.ampacity
@@ -182,25 +216,36 @@ class NecRegime:
 
     # -- checks ----------------------------------------------------------------------------------
     def _thermal(self, plan: Plan, cand: Candidate) -> tuple[float, list[Check]]:
-        d, split, rating = plan.derate, plan.load, plan.device.rated_current_a
+        split, rating, n = plan.load, plan.device.rated_current_a, cand.sets
+        d, conductors = self._derate(plan, n)
         material = plan.spec.circuit.material
         section = "215.2(A)(1)" if plan.spec.circuit.role == "feeder" else "210.19(A)(1)"
-        derated = cand.insulation_a * d.ambient * d.adjustment
-        ampacity = min(derated, cand.termination_a)
+        # In parallel the sets share the current equally (310.10(G)(2): same length, material, size, insulation and
+        # terminations), so the line's ampacity is n times one conductor's.
+        derated = n * cand.insulation_a * d.ambient * d.adjustment
+        termination = n * cand.termination_a
+        ampacity = min(derated, termination)
+        times = f"{n} x " if n > 1 else ""
+        parallel = f" ({n} in parallel, {EDITION}, 310.10(G))" if n > 1 else ""
         checks = [
             Check("device_rating", rating >= split.required_a - 1e-9, rating, split.required_a, "A",
                   "device >= 1.25 x continuous + non-continuous",
                   f"{EDITION}, {'215.3' if plan.spec.circuit.role == 'feeder' else '210.20(A)'}"),
-            Check("termination_ampacity", cand.termination_a >= split.required_a - 1e-9, cand.termination_a,
+            Check("termination_ampacity", termination >= split.required_a - 1e-9, termination,
                   split.required_a, "A", f"{plan.termination_c} °C column >= 1.25 x continuous + non-continuous",
-                  f"{EDITION}, {section}(a) and 110.14(C); {self.t.source(self._ampacity_table_id(plan))}"),
+                  f"{EDITION}, {section}(a) and 110.14(C)(1); {self.t.source(AMPACITY_TABLE)}",
+                  f"{times}{cand.termination_a:g} A{parallel}" if n > 1 else ""),
             Check("ampacity", derated >= split.design_current_a - 1e-9, derated, split.design_current_a, "A",
                   "corrected and adjusted ampacity >= load", f"{EDITION}, {section}(b) and 310.15",
-                  f"{cand.insulation_a:g} A ({plan.insulation_c} °C column) x {d.ambient:g} x {d.adjustment:g}"),
+                  f"{times}{cand.insulation_a:g} A ({plan.insulation_c} °C column) x {d.ambient:g} x {d.adjustment:g}"
+                  + (f"; {conductors} current-carrying conductors in one raceway" if conductors != plan.conductors else "")
+                  + parallel),
         ]
+        if plan.breaking is not None:
+            checks.append(plan.breaking)
         next_up = next_rating_above(self.t, ampacity)
         allowed = ampacity
-        why = f"ampacity {ampacity:.4g} A = min({derated:.4g} A corrected, {cand.termination_a:g} A at {plan.termination_c} °C)"
+        why = f"ampacity {ampacity:.4g} A = min({derated:.4g} A corrected, {termination:g} A at {plan.termination_c} °C)"
         if rating <= NEXT_SIZE_UP_LIMIT_A and next_up is not None and not any(math.isclose(ampacity, r) for r in self.t.ratings):
             allowed = min(next_up, NEXT_SIZE_UP_LIMIT_A)
             why += f"; next standard rating up {allowed:g} A allowed, 240.4(B)"
@@ -214,10 +259,16 @@ class NecRegime:
                                 self.t.source(SMALL_CONDUCTOR_TABLE)))
         return ampacity, checks
 
-    def _egc(self, plan: Plan, line: Conductor, minimum: Conductor | None) -> tuple[Conductor, Check]:
+    def egc_count(self, plan: Plan, sets: int) -> int:
+        """EGCs run: one in each parallel raceway or cable (250.122(F)(1)(b)), one where all sets share a raceway."""
+        return 1 if plan.spec.circuit.parallel_raceways == "shared" and plan.spec.circuit.installation != "free_air" else sets
+
+    def _egc(self, plan: Plan, line: Conductor, sets: int,
+             minimum: tuple[Conductor, int] | None) -> tuple[Conductor, Check]:
         spec = plan.spec
         sizes = self.sizes[spec.circuit.material]
-        required, basis = egc_required(self.t, sizes, plan.device.rated_current_a, spec.circuit.material, line, minimum)
+        required, basis = egc_required(self.t, sizes, plan.device.rated_current_a, spec.circuit.material, line, minimum,
+                                       sets)
         if spec.egc_mode == "given":
             egc = sizes.get(spec.egc_size_label or "")
             if egc is None:
@@ -226,18 +277,20 @@ class NecRegime:
         else:
             egc = line if spec.egc_mode == "same_as_line" else required
         have, need = self.t.cmil[egc.size_label], self.t.cmil[required.size_label]
+        count = self.egc_count(plan, sets)
         check = Check("equipment_grounding_conductor", have >= need, have, need, "cmil", f"EGC {egc.size_label} >= "
-                      f"{required.size_label}", f"{EDITION}, 250.122(A)/(B)", basis)
+                      f"{required.size_label}" + (f", in each of the {count} raceways or cables" if count > 1 else ""),
+                      f"{EDITION}, 250.122(A)/(B)" + ("/(F)" if sets > 1 else ""), basis)
         return egc, check
 
     def _evaluate(self, plan: Plan, batch: list[Candidate], with_network: bool,
-                  minimum: Conductor | None) -> tuple[list[SizeEvaluation], int]:
+                  minimum: tuple[Conductor, int] | None) -> tuple[list[SizeEvaluation], int]:
         spec, system = plan.spec, plan.system
         material = spec.circuit.material
         prepared = []
         for cand in batch:
             ampacity, checks = self._thermal(plan, cand)
-            egc, egc_check = self._egc(plan, cand.line, minimum)
+            egc, egc_check = self._egc(plan, cand.line, cand.sets, minimum)
             prepared.append((cand, ampacity, checks + [egc_check], egc))
         runs = [None] * len(batch)
         solves = 0
@@ -248,7 +301,8 @@ class NecRegime:
             cases = []
             for cand, _, _, egc in prepared:
                 z = self.t.impedance[(material, plan.impedance_group, cand.line.size_label)]
-                cases.append(RunCase(cand.line, egc, z.r_ohm_per_m, z.x_ohm_per_m))
+                # n sets in parallel: n equal paths, R / n and X / n (mutual coupling between sets neglected)
+                cases.append(RunCase(cand.line, egc, z.r_ohm_per_m / cand.sets, z.x_ohm_per_m / cand.sets))
             runs = solve_runs(cases, electrical)
             solves = 1
         live = 2 if system.phases == "single" else 3 + (1 if spec.circuit.neutral else 0)
@@ -263,79 +317,115 @@ class NecRegime:
                           "this circuit's drop <= guidance",
                           DROP_SOURCE if spec.drop_limit_pct is None else "limit given in the request (guidance)",
                           f"{run.drop_v:.3g} V of {system.source_v:g} V (line to neutral for three-phase), Table 9 R and "
-                          f"X in {plan.impedance_group} conduit, solved network", "guidance"),
+                          f"X in {plan.impedance_group} conduit" + (f" / {cand.sets} sets" if cand.sets > 1 else "")
+                          + ", solved network", "guidance"),
                     Check("total_voltage_drop", total <= TOTAL_DROP_PCT + 1e-12, total, TOTAL_DROP_PCT, "%",
                           "upstream + this circuit <= guidance", DROP_SOURCE,
                           f"this circuit {drop_pct:.3g} % + upstream {spec.upstream_drop_pct:g} %", "guidance"),
                 ]
             checks.sort(key=lambda ch: CHECK_ORDER.index(ch.name))
-            mass = self.densities[material] * spec.circuit.length_m * (live * cand.line.area_m2 + egc.area_m2)
+            mass = self.densities[material] * spec.circuit.length_m * (
+                live * cand.sets * cand.line.area_m2 + self.egc_count(plan, cand.sets) * egc.area_m2)
             found.append(SizeEvaluation(
                 size_label=cand.line.size_label, area_m2=cand.line.area_m2, pe_size_label=egc.size_label,
                 pe_area_m2=egc.area_m2, tabulated_capacity_a=cand.insulation_a,
                 capacity_basis=(f"{self.t.tables[self._ampacity_table_id(plan)].table}, {material} {plan.insulation_c} "
-                                f"°C column; termination column {plan.termination_c} °C: {cand.termination_a:g} A"),
+                                f"°C column; termination column {plan.termination_c} °C (Table 310.16, 110.14(C)(1)): "
+                                f"{cand.termination_a:g} A" + (f"; one of {cand.sets} conductors in parallel per line"
+                                                               if cand.sets > 1 else "")),
                 capacity_table_id=self._ampacity_table_id(plan), iz_a=ampacity, checks=tuple(checks),
                 voltage_drop_v=None if run is None else run.drop_v, voltage_drop_pct=drop_pct, total_drop_pct=total,
                 zs_ohm=None, earth_fault_current_a=None, metal_mass_kg=mass,
-                r1_ohm=None if run is None else run.r1_ohm, r2_ohm=None))
+                r1_ohm=None if run is None else run.r1_ohm, r2_ohm=None, parallel_sets=cand.sets))
         return found, solves
 
-    def _ampacity_minimum(self, plan: Plan, candidates: list[Candidate]) -> Conductor | None:
-        """The smallest size whose current-carrying checks pass: the base of 250.122(B)'s proportion."""
-        return next((c.line for c in candidates if all(ch.passes for ch in self._thermal(plan, c)[1])), None)
+    def _ampacity_minimum(self, plan: Plan, candidates: list[Candidate]) -> tuple[Conductor, int] | None:
+        """The first size (and sets) whose current-carrying checks pass: the base of 250.122(B)'s proportion."""
+        return next(((c.line, c.sets) for c in candidates
+                     if all(ch.passes for ch in self._thermal(plan, c)[1] if ch.name not in DEVICE_CHECKS)), None)
+
+    def _minimum(self, plan: Plan, singles: list[Candidate]) -> tuple[Conductor, int] | None:
+        return self._ampacity_minimum(plan, singles) or self._ampacity_minimum(plan, self.parallel_candidates(plan))
+
+    def _rank(self, size_label: str, sets: int) -> tuple[int, float]:
+        """The search's order: fewest sets first, then the smallest size."""
+        return sets, self.t.cmil[size_label]
 
     # -- answers ---------------------------------------------------------------------------------
     def size(self, spec: NecSizingInput) -> SizingResult:
         plan = self.plan(spec)
-        candidates = self.candidates(plan)
-        minimum = self._ampacity_minimum(plan, candidates)
-        found = smallest_passing(candidates, lambda batch, net: self._evaluate(plan, list(batch), net, minimum))
-        chosen, rejected = found.chosen, list(found.rejected)
+        singles = self.candidates(plan)
+        minimum = self._minimum(plan, singles)
+        evaluate = lambda batch, net: self._evaluate(plan, list(batch), net, minimum)  # noqa: E731
+        found = smallest_passing(singles, evaluate)
+        chosen, rejected, solves = found.chosen, list(found.rejected), found.solves
+        if chosen is None and not set(rejected[-1].failing) & set(DEVICE_CHECKS):
+            # no single conductor will do, and a larger one could: sets in parallel (310.10(G)), fewest first
+            more = smallest_passing(self.parallel_candidates(plan), evaluate)
+            chosen, rejected, solves = more.chosen, rejected + list(more.rejected), solves + more.solves
         steps = list(plan.steps)
         if chosen is not None:
-            if minimum is not None and chosen.size_label != minimum.size_label:
-                forced = sorted({n for ev in rejected if self.t.cmil[ev.size_label] >= self.t.cmil[minimum.size_label]
+            if minimum is not None and (chosen.size_label, chosen.parallel_sets) != (minimum[0].size_label, minimum[1]):
+                base = self._rank(minimum[0].size_label, minimum[1])
+                forced = sorted({n for ev in rejected if self._rank(ev.size_label, ev.parallel_sets) >= base
                                  for n in ev.failing}, key=CHECK_ORDER.index)
-                steps.append(Step(f"Size raised from {minimum.size_label} by {', '.join(forced)}",
-                                  f"{minimum.size_label} carries the load but fails {', '.join(forced)}",
-                                  self.t.cmil[chosen.size_label], "cmil"))
+                low = sets_label(minimum[0].size_label, minimum[1])
+                steps.append(Step(f"Size raised from {low} by {', '.join(forced)}",
+                                  f"{low} carries the load but fails {', '.join(forced)}",
+                                  chosen.parallel_sets * self.t.cmil[chosen.size_label], "cmil"))
             governing = governing_check(rejected, CHECK_ORDER) or "smallest_listed_size"
-            return self._result(plan, "size", "compliant", chosen, rejected, governing, (), steps, found.solves)
-        binding = tuple(n for n in CHECK_ORDER if n in rejected[-1].failing)
-        return self._result(plan, "size", "no_compliant_size", None, rejected, binding[0], binding, steps, found.solves)
+            return self._result(plan, "size", "compliant", chosen, rejected, governing, (), steps, solves)
+        failing = rejected[-1].failing
+        # A device check that fails binds alone: no conductor can pass it (ways_out then say what the conductor
+        # would be with a device that passes).
+        binding = tuple(n for n in CHECK_ORDER if n in failing and (n in DEVICE_CHECKS or not set(failing) & set(DEVICE_CHECKS)))
+        return self._result(plan, "size", "no_compliant_size", None, rejected, binding[0], binding, steps, solves,
+                            rejected[-1])
 
     def verify(self, spec: NecSizingInput, size_label: str) -> SizingResult:
         plan = self.plan(spec)
-        candidates = self.candidates(plan)
-        cand = next((c for c in candidates if c.line.size_label == size_label), None)
+        sets = spec.parallel_sets
+        if sets > 1 and self.t.cmil.get(size_label, 0.0) < self.t.cmil[PARALLEL_MIN_SIZE]:
+            raise blame("contradictory-input", f"Conductors in parallel must be {PARALLEL_MIN_SIZE} or larger "
+                        f"({EDITION}, 310.10(G)(1)).", f"Give a size of {PARALLEL_MIN_SIZE} or larger, or one set.",
+                        (("circuit", "size"), f"below {PARALLEL_MIN_SIZE} with parallel sets"),
+                        (("circuit", "parallel_sets"), f"more than one set needs {PARALLEL_MIN_SIZE} or larger"))
+        singles = self.candidates(plan)
+        cand = next((c for c in self.candidates(plan, sets) if c.line.size_label == size_label), None)
         if cand is None:
             raise blame("unknown-conductor", f"No {spec.circuit.material} AWG/kcmil size with Table 310.16 and Table 9 "
                         "data matches the size given.", "Give a size from 14 AWG (12 AWG aluminium) to 1000 kcmil; "
                         "700, 800 and 900 kcmil have no Table 9 values.", (("circuit", "size"), "not a tabulated size"))
-        (ev,), solves = self._evaluate(plan, [cand], True, self._ampacity_minimum(plan, candidates))
+        (ev,), solves = self._evaluate(plan, [cand], True, self._minimum(plan, singles))
         failing = tuple(n for n in CHECK_ORDER if n in ev.failing)
         requirements_met = all(c.passes for c in ev.checks if c.obligation == "requirement")
         verdict = "compliant" if ev.passes else "meets_requirements_not_guidance" if requirements_met else "non_compliant"
         return self._result(plan, "verify", verdict, ev, [], failing[0] if failing else None, failing,
-                            list(plan.steps), solves)
+                            list(plan.steps), solves, ev)
 
     def _fill(self, plan: Plan, chosen: SizeEvaluation) -> FillResult | None:
         c = plan.spec.circuit
         if c.raceway is None:
             return None
         lines = 2 if plan.system.phases == "single" else 3 + (1 if c.neutral else 0)
-        conductors = [FillConductor(c.conductor_type, chosen.size_label, lines)]
+        in_one = chosen.parallel_sets if c.parallel_raceways == "shared" else 1  # sets in each raceway
+        conductors = [FillConductor(c.conductor_type, chosen.size_label, lines * in_one)]
         conductors.append(FillConductor(c.conductor_type, chosen.pe_size_label, 1))
         return raceway_fill(self.t, c.raceway, tuple(conductors), ("circuit", "raceway"))
 
     def _result(self, plan: Plan, mode: str, verdict: str, chosen: SizeEvaluation | None, rejected: list[SizeEvaluation],
-                governing: str | None, binding: tuple[str, ...], steps: list[Step], solves: int) -> SizingResult:
+                governing: str | None, binding: tuple[str, ...], steps: list[Step], solves: int,
+                failed: SizeEvaluation | None = None) -> SizingResult:
         spec = plan.spec
         fill = None if chosen is None else self._fill(plan, chosen)
         if chosen is not None:
             steps = steps + chosen_steps(self.t, plan, chosen, self._ampacity_table_id(plan))
             if fill is not None:
+                if chosen.parallel_sets > 1:
+                    shared = plan.spec.circuit.parallel_raceways == "shared"
+                    steps.append(Step("Parallel sets and raceways", "all sets and one EGC in one raceway" if shared else
+                                      "each raceway: one set and its EGC (250.122(F)(1)(b)); the fill below is of "
+                                      "each", 1 if shared else chosen.parallel_sets, "raceways", f"{EDITION}, 310.10(G)"))
                 steps += list(fill.steps)
         factors = (Factor("ambient", plan.derate.ambient, plan.derate.ambient_basis, self.t.source(AMBIENT_TABLE),
                           AMBIENT_TABLE),
@@ -349,8 +439,9 @@ class NecRegime:
             available_drop_pct=min(plan.drop_limit_pct, TOTAL_DROP_PCT - spec.upstream_drop_pct),
             disconnection_time_s=None, disconnection_source=None, chosen=chosen, governing_check=governing,
             rejected=tuple(rejected), binding_checks=binding,
-            ways_out=tuple(WAYS_OUT[n] for n in CHECK_ORDER if n in binding), steps=tuple(steps),
-            assumptions=assumptions(plan), cautions=cautions(self.t, plan, fill, self.table_ids()),
+            ways_out=ways_out(self, plan, mode, failed, binding) if binding and failed is not None else (),
+            steps=tuple(steps),
+            assumptions=assumptions(plan, chosen, MAX_PARALLEL_SETS), cautions=cautions(self.t, plan, fill, self.table_ids()),
             table_ids=self.table_ids(), solves=solves, raceway=fill,
         )
 

@@ -97,19 +97,30 @@ def egc_minimum(t: NecTables, rated_current_a: float, material: str) -> tuple[st
     return row[1], f"device {rated_current_a:g} A: the 'not exceeding {row[0]:g} A' row"
 
 
+def sets_label(size_label: str, sets: int) -> str:
+    """A size as a designer says it: "4/0 AWG", or "2 x 250 kcmil" for conductors in parallel."""
+    return size_label if sets == 1 else f"{sets} x {size_label}"
+
+
 def egc_required(t: NecTables, sizes: dict[str, Conductor], rated_current_a: float, material: str, line: Conductor,
-                 ampacity_minimum: Conductor | None) -> tuple[Conductor, str]:
-    """The smallest EGC for ``line``: Table 250.122, increased in proportion to the line's circular mils (Chapter 9
-    Table 8) when the line is larger than the smallest size with enough ampacity (250.122(B)), never larger than the
-    line (250.122(A))."""
+                 ampacity_minimum: tuple[Conductor, int] | None, sets: int = 1) -> tuple[Conductor, str]:
+    """The smallest EGC for ``line`` (``sets`` in parallel): Table 250.122 on the device rating, increased in
+    proportion to the line's circular mils (Chapter 9 Table 8, all sets of one line together) when the line is larger
+    than the smallest size (and number of sets) with enough ampacity (250.122(B)), never larger than the line
+    (250.122(A)). In parallel, each raceway's EGC is this full size (250.122(F)(1))."""
     label, row = egc_minimum(t, rated_current_a, material)
     basis = f"{t.source(EGC_TABLE)}: {row} -> {label}"
+    if sets > 1:
+        basis += f" (full size in each parallel raceway or cable, {EDITION}, 250.122(F)(1))"
     wanted = t.cmil[label]
-    if ampacity_minimum is not None and t.cmil[line.size_label] > t.cmil[ampacity_minimum.size_label]:
-        ratio = t.cmil[line.size_label] / t.cmil[ampacity_minimum.size_label]
+    have = sets * t.cmil[line.size_label]
+    if ampacity_minimum is not None and have > ampacity_minimum[1] * t.cmil[ampacity_minimum[0].size_label]:
+        base, base_sets = ampacity_minimum
+        base_cmil = base_sets * t.cmil[base.size_label]
+        ratio = have / base_cmil
         wanted = t.cmil[label] * ratio
-        basis += (f"; line upsized from {ampacity_minimum.size_label} to {line.size_label}: {t.cmil[line.size_label]:,.0f} / "
-                  f"{t.cmil[ampacity_minimum.size_label]:,.0f} cmil = {ratio:.4g}, x {t.cmil[label]:,.0f} cmil = "
+        basis += (f"; line upsized from {sets_label(base.size_label, base_sets)} to {sets_label(line.size_label, sets)}: "
+                  f"{have:,.0f} / {base_cmil:,.0f} cmil = {ratio:.4g}, x {t.cmil[label]:,.0f} cmil = "
                   f"{wanted:,.0f} cmil ({EDITION}, 250.122(B); cmil from {t.source(CONDUCTOR_TABLE)})")
     held = [c for c in sizes.values() if c.size_label in t.cmil]
     chosen = min((c for c in held if t.cmil[c.size_label] >= wanted), key=lambda c: t.cmil[c.size_label], default=None)

@@ -13,6 +13,7 @@ conductor library's labels ("12 AWG", "250 kcmil").
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from functools import lru_cache
 from service.core.data import DataTable, load_tables
@@ -45,6 +46,10 @@ _R_COLUMNS = {("copper", "pvc"): "r_copper_pvc", ("copper", "aluminium"): "r_cop
               ("copper", "steel"): "r_copper_steel", ("aluminium", "pvc"): "r_aluminium_pvc",
               ("aluminium", "aluminium"): "r_aluminium_aluminium_conduit", ("aluminium", "steel"): "r_aluminium_steel"}
 _X_COLUMNS = {"pvc": "xl_pvc_aluminium_conduit", "aluminium": "xl_pvc_aluminium_conduit", "steel": "xl_steel_conduit"}
+# The table's own "Effective Z at 0.85 PF" columns, by the same (material, raceway) as the R columns.
+_Z_COLUMNS = {key: column.replace("r_", "z085_", 1) for key, column in _R_COLUMNS.items()}
+TABLE9_POWER_FACTOR = 0.85  # the power factor of the effective-Z columns
+Z_NOTE2_TOLERANCE = 0.10  # a tabulated Z further than this from R cos θ + X sin θ at 0.85 is a mistyped cell
 
 
 def _fail(table_id: str, message: str) -> None:
@@ -68,6 +73,7 @@ class Band:
 class Impedance:
     r_ohm_per_m: float
     x_ohm_per_m: float
+    z085_ohm_per_m: float  # the table's effective Z at 0.85 PF (rounded by the table itself, not from R and X)
 
 
 @dataclass(frozen=True, slots=True)
@@ -91,7 +97,7 @@ def _ampacities(table: DataTable) -> dict[tuple[str, int], dict[str, float]]:
     for material in MATERIALS:
         for rating in RATINGS_C:
             column = f"{material}_{rating}"
-            pairs = [(size_label(r["size"]), r[column]) for r in table.records() if r[column] is not None]
+            pairs = [(size_label(r["size"]), float(r[column])) for r in table.records() if r[column] is not None]
             values = [v for _, v in pairs]
             if not pairs or not all(_positive(v) for v in values) or not _rising(values):
                 _fail(table.table_id, f"{column}: ampacities must be positive and rise with the size")
@@ -134,14 +140,20 @@ def _bands(table: DataTable, x: str, y: str, *, falling: bool) -> tuple[Band, ..
 
 def _impedances(table: DataTable) -> dict[tuple[str, str, str], Impedance]:
     found = {}
+    sin_085 = math.sqrt(1.0 - TABLE9_POWER_FACTOR**2)
     for (material, raceway), r_column in _R_COLUMNS.items():
-        x_column = _X_COLUMNS[raceway]
-        rows = [(size_label(r["size"]), r[r_column], r[x_column]) for r in table.records() if r[r_column] is not None]
-        rs = [r for _, r, _ in rows]
-        if not rows or not all(_positive(r) and _positive(x) for _, r, x in rows) or any(b > a for a, b in zip(rs, rs[1:])):
-            _fail(table.table_id, f"{r_column}: resistances must be positive and not rise with the size")
-        for size, r, x in rows:
-            found[(material, raceway, size)] = Impedance(r * PER_KFT_TO_PER_M, x * PER_KFT_TO_PER_M)
+        x_column, z_column = _X_COLUMNS[raceway], _Z_COLUMNS[(material, raceway)]
+        rows = [(size_label(r["size"]), r[r_column], r[x_column], r[z_column]) for r in table.records()
+                if r[r_column] is not None]
+        rs, zs = [r for _, r, _, _ in rows], [z for *_, z in rows]
+        if not rows or not all(_positive(r) and _positive(x) and _positive(z) for _, r, x, z in rows) \
+                or any(b > a for a, b in zip(rs, rs[1:])) or any(b > a for a, b in zip(zs, zs[1:])):
+            _fail(table.table_id, f"{r_column}, {z_column}: resistances and impedances must be positive and not rise "
+                  "with the size")
+        for size, r, x, z in rows:
+            if abs(z / (r * TABLE9_POWER_FACTOR + x * sin_085) - 1.0) > Z_NOTE2_TOLERANCE:
+                _fail(table.table_id, f"{z_column} {size}: more than 10 % from R cos θ + X sin θ at 0.85 (Note 2)")
+            found[(material, raceway, size)] = Impedance(r * PER_KFT_TO_PER_M, x * PER_KFT_TO_PER_M, z * PER_KFT_TO_PER_M)
     for (material, raceway, size), z in found.items():
         if raceway == "steel" and not z.x_ohm_per_m > found[(material, "pvc", size)].x_ohm_per_m:
             _fail(table.table_id, f"{size}: reactance in steel conduit must exceed that in PVC")
@@ -202,9 +214,13 @@ class NecTables:
         self.adjustment = _bands(tables[ADJUSTMENT_TABLE], "conductors_up_to", "factor", falling=True)
         if self.adjustment[0].value != 1.0:
             _fail(ADJUSTMENT_TABLE, "up to three conductors the factor must be 1")
-        self.ratings = tuple(float(r) for r in tables[RATINGS_TABLE].column("rating_a"))
-        if not _rising(list(self.ratings)):
-            _fail(RATINGS_TABLE, "ratings must rise")
+        rows = tables[RATINGS_TABLE].records()
+        # Every standard rating of 240.6(A), and those common to fuses and inverse-time breakers (the service
+        # chooses a device, and takes 240.4(B)'s next size up, among these: 1, 3, 6, 10 and 601 A are fuses only).
+        self.fuse_ratings = tuple(float(r["rating_a"]) for r in rows)
+        self.ratings = tuple(float(r["rating_a"]) for r in rows if not r["fuse_only"])
+        if not _rising(list(self.fuse_ratings)) or not all(isinstance(r["fuse_only"], bool) for r in rows):
+            _fail(RATINGS_TABLE, "ratings must rise, each marked fuse_only true or false")
         self.small_conductor = {(r["material"], size_label(r["size"])): float(r["max_overcurrent_a"])
                                 for r in tables[SMALL_CONDUCTOR_TABLE].records()}
         self.impedance = _impedances(tables[IMPEDANCE_TABLE])
