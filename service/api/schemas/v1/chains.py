@@ -16,6 +16,7 @@ from service.api.schemas.v1.common import (
     quantity,
 )
 from service.units import (
+    AC_POWER,
     CURRENT,
     ENERGY,
     FREQUENCY,
@@ -23,7 +24,6 @@ from service.units import (
     INDUCTIVE_REACTANCE,
     LENGTH,
     MASS,
-    POWER,
     RESIDUAL_CURRENT,
     RESISTANCE,
     TEMPERATURE,
@@ -101,9 +101,10 @@ class ApplianceIn(Strict, kw_only=True):
     outlet: Annotated[int, Meta(ge=0, description=(
         "The lead whose outlet it is plugged into, counting from 0 for the lead in the socket. "
         "Leave out for the last lead's outlet."))] | None = None
-    rated_power: quantity(POWER, "2.8 kW", 1500)  # type: ignore[valid-type]
+    rated_power: quantity(AC_POWER, "2.8 kW", "1.2 kVA", 1500)  # type: ignore[valid-type]
     rated_voltage: quantity(VOLTAGE, "230 V") = 230.0  # type: ignore[valid-type]
-    power_factor: Annotated[float, Meta(gt=0, le=1, description="cos φ at rated voltage.")] = 1.0
+    power_factor: Annotated[float, Meta(gt=0, le=1, description=(
+        "cos φ at rated voltage; with an apparent rated_power (VA) the active power is P = S cos φ."))] = 1.0
     leading: bool = False
     model: Annotated[Literal["constant_impedance", "constant_current", "constant_power"], Meta(description=(
         "How the appliance follows its voltage: constant_impedance for heaters, urns and filament lamps; "

@@ -18,11 +18,12 @@ from service.units import (
     CURRENT,
     DISCONNECTION_TIME,
     LET_THROUGH_ENERGY,
+    LOAD_VOLTAGE,
     FREQUENCY,
     IMPEDANCE,
     LENGTH,
     LENGTH_OR_ZERO,
-    POWER,
+    AC_POWER,
     RESIDUAL_CURRENT,
     SOIL_THERMAL_RESISTIVITY,
     TEMPERATURE,
@@ -52,10 +53,13 @@ class LoadIn(Strict):
         "Single-phase, or balanced three-phase. IEC 60364: default single. NEC: implied by supply.system (a "
         "contradiction is refused)."))] = None
     design_current: quantity(CURRENT, "26 A", 26) | None = None  # type: ignore[valid-type]
-    power: quantity(POWER, "6 kW", 6000) | None = None  # type: ignore[valid-type]
-    voltage: quantity(VOLTAGE, "230 V", "400 V") | None = None  # type: ignore[valid-type]
-    power_factor: Annotated[Fraction, Meta(description="cos φ of the load, lagging.")] = 1.0
-    efficiency: Annotated[Fraction, Meta(description="When the power given is the output (a motor's shaft power).")] = 1.0
+    power: quantity(AC_POWER, "6 kW", "10 kVA", 6000) | None = None  # type: ignore[valid-type]
+    voltage: quantity(LOAD_VOLTAGE, "230 V", "400 V") | None = None  # type: ignore[valid-type]
+    power_factor: Annotated[Fraction, Meta(description=(
+        "cos φ of the load, lagging. With an active power P (W): Ib = P / (U cos φ), or P / (√3 U cos φ); an apparent "
+        "power S (VA) gives Ib = S / U, or S / (√3 U), whatever cos φ is."))] = 1.0
+    efficiency: Annotated[Fraction, Meta(description=(
+        "When the power given is the output (a motor's shaft power, in W); not with an apparent power."))] = 1.0
     continuous_share: Annotated[Annotated[float, Meta(ge=0.0, le=1.0)] | None, Meta(description=(
         f"{NEC}: the share of the load that is continuous (maximum current for 3 h or more); conductor and device "
         "are sized for 125 % of it plus 100 % of the rest (210.19(A), 215.2). Default 1 (all continuous)."))] = None
