@@ -73,6 +73,16 @@ TEMPERATURE = QuantityKind("conductor or ambient temperature", "degC", "70 degC"
 VOLTAGE = QuantityKind("voltage", "V", "230 V", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
 CURRENT = QuantityKind("current", "A", "16 A", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
 POWER = QuantityKind("power", "W", "3 kW", minimum=0.0, exclusive_minimum=True, maximum=1.0e9)
+# A protective device's rated current: only the ratings the device's standard lists are accepted (checked where
+# the tables are: IEC 60898-1 5.3.2 for B/C/D, IEC 60269-1 for gG fuse-links, NEC Table 240.6(A)).
+DEVICE_RATING = QuantityKind(
+    "rated current In, a standard rating of the device (IEC 60898-1 5.3.2 preferred values for types B, C, D; "
+    "IEC 60269-1 for gG; NEC Table 240.6(A)); another value is refused", "A", "32 A", minimum=0.0,
+    exclusive_minimum=True, maximum=1.0e6)
+ELECTRODE_RESISTANCE = QuantityKind(
+    "resistance RA of the installation's earth electrode (TT); the earth-fault loop runs through it, so the loop "
+    "impedance given (Ze, or the socket's earth loop) must not be less than RA", "ohm", "60 ohm", minimum=0.0,
+    exclusive_minimum=True, maximum=1.0e6)
 # A load's power: the unit says which (W, kW, hp: active P; VA, kVA: apparent S); a bare number is in watts.
 AC_POWER = QuantityKind("power, active (W, kW) or apparent (VA, kVA) as its unit says", "W", "10 kVA", minimum=0.0,
                         exclusive_minimum=True, maximum=1.0e9)

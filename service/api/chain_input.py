@@ -12,9 +12,10 @@ from service.core.protection.ratings import nonstandard_rating, standard_ratings
 from service.units import (
     AC_POWER,
     CURRENT,
+    DEVICE_RATING,
+    ELECTRODE_RESISTANCE,
     ENERGY,
     FREQUENCY,
-    IMPEDANCE,
     INDUCTIVE_REACTANCE,
     LENGTH,
     MASS,
@@ -57,13 +58,13 @@ def _supply(reader: FieldReader, supply: s.SupplyIn) -> Supply:
                    "supply", "loop_impedance")
     line_earth = _loop(reader, supply.earth_loop_impedance, supply.prospective_earth_fault_current, u0,
                        "earth_loop_impedance", "prospective_earth_fault_current")
-    ra = _optional(reader, supply.electrode_resistance, IMPEDANCE, "supply", "electrode_resistance")
+    ra = _optional(reader, supply.electrode_resistance, ELECTRODE_RESISTANCE, "supply", "electrode_resistance")
     if line_earth is not None:
         given = "earth_loop_impedance" if supply.earth_loop_impedance is not None else "prospective_earth_fault_current"
         check_tt_loop(reader, supply.earthing, line_earth.magnitude_ohm, ra,
                       ("supply", given), ("supply", "electrode_resistance"))
     device = supply.device
-    rating = None if device is None else reader.quantity(device.rated_current, CURRENT, "supply", "device",
+    rating = None if device is None else reader.quantity(device.rated_current, DEVICE_RATING, "supply", "device",
                                                          "rated_current")
     if rating is not None and rating == rating:
         problem = nonstandard_rating(device.type, rating, *standard_ratings(device.type, default_protection()))

@@ -7,7 +7,7 @@ from service.api.schemas.v1 import raceways as r
 from service.api.schemas.v1 import sizing as s
 from service.api.sizing_input import check_protective_mode, load_power, regime_fields
 from service.core.sizing.nec import SYSTEMS, FillConductor, NecCircuit, NecLoad, NecSizingInput
-from service.units import CURRENT, FREQUENCY, LENGTH, LOAD_VOLTAGE, TEMPERATURE
+from service.units import CURRENT, DEVICE_RATING, FREQUENCY, LENGTH, LOAD_VOLTAGE, TEMPERATURE
 
 NEC_FREQUENCY_HZ = 60.0  # Chapter 9 Table 9 holds 60 Hz values only
 
@@ -103,7 +103,7 @@ def to_nec_input(req: s.SizingRequest | s.VerifyRequest) -> tuple[NecSizingInput
         load=_load(reader, req.load, system),
         circuit=_circuit(reader, req.circuit),
         system=system or "120V",
-        rated_current_a=None if rated is None else reader.quantity(rated, CURRENT, "protection", "device", "rated_current"),
+        rated_current_a=None if rated is None else reader.quantity(rated, DEVICE_RATING, "protection", "device", "rated_current"),
         drop_limit_pct=req.limits.voltage_drop,
         upstream_drop_pct=req.limits.upstream_drop,
         egc_mode=mode,

@@ -22,6 +22,8 @@ from service.core.sizing import (
 from service.units import (
     AC_POWER,
     CURRENT,
+    DEVICE_RATING,
+    ELECTRODE_RESISTANCE,
     DISCONNECTION_TIME,
     LET_THROUGH_ENERGY,
     LOAD_VOLTAGE,
@@ -99,7 +101,7 @@ def _circuit(reader: FieldReader, c: s.CircuitIn) -> CircuitSpec:
 def _protection(reader: FieldReader, p: s.ProtectionIn) -> ProtectionSpec:
     return ProtectionSpec(
         device_type=p.device.type or "B",
-        rated_current_a=_optional(reader, p.device.rated_current, CURRENT, "protection", "device", "rated_current"),
+        rated_current_a=_optional(reader, p.device.rated_current, DEVICE_RATING, "protection", "device", "rated_current"),
         rcd_residual_current_a=None if p.rcd is None else reader.quantity(
             p.rcd.rated_residual_current, RESIDUAL_CURRENT, "protection", "rcd", "rated_residual_current"),
         required_time_s=_optional(reader, p.required_disconnection_time, DISCONNECTION_TIME, "protection",
@@ -115,7 +117,7 @@ def _supply(reader: FieldReader, sup: s.SupplyIn) -> SupplySpec:
         reader.add("required for regime iec60364: the external earth-fault loop impedance", "supply", "ze")
     earthing = sup.earthing or "TN-C-S"
     ze = 0.35 if sup.ze is None else reader.quantity(sup.ze, IMPEDANCE, "supply", "ze")
-    ra = _optional(reader, sup.electrode_resistance, IMPEDANCE, "supply", "electrode_resistance")
+    ra = _optional(reader, sup.electrode_resistance, ELECTRODE_RESISTANCE, "supply", "electrode_resistance")
     check_tt_loop(reader, earthing, ze, ra, ("supply", "ze"), ("supply", "electrode_resistance"))
     return SupplySpec(
         u0_v=230.0 if sup.u0 is None else reader.quantity(sup.u0, VOLTAGE, "supply", "u0"),

@@ -101,7 +101,8 @@ def design_current(spec: SizingInput) -> tuple[float, Step]:
     if load.apparent_power_va is not None:  # S is what the load draws: Ib follows from it whatever cos φ is
         s = load.apparent_power_va
         ib = s / (k * u)
-        formula = (f"Ib = S / ({root}U) = {s:g} / ({'√3 x ' if three else ''}{u:.4g}); apparent power S given "
+        over = f"(√3 U) = {s:g} / (√3 x {u:.4g})" if three else f"U = {s:g} / {u:.4g}"
+        formula = (f"Ib = S / {over}; apparent power S given "
                    f"(P = S cos φ = {s * load.power_factor:g} W); {u_basis}")
         return ib, Step("Design current Ib", formula, ib, "A",
                         "common practice: S = √3 U I three-phase, S = U I single-phase")

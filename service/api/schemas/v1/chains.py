@@ -18,9 +18,10 @@ from service.api.schemas.v1.common import (
 from service.units import (
     AC_POWER,
     CURRENT,
+    DEVICE_RATING,
+    ELECTRODE_RESISTANCE,
     ENERGY,
     FREQUENCY,
-    IMPEDANCE,
     INDUCTIVE_REACTANCE,
     LENGTH,
     MASS,
@@ -42,7 +43,7 @@ class LoopImpedanceIn(Strict):
 class DeviceIn(Strict):
     type: Annotated[Literal["B", "C", "D", "gG"], Meta(
         description="Circuit-breaker curve per IEC 60898-1 (B, C, D) or a gG fuse-link per IEC 60269-1.")]
-    rated_current: quantity(CURRENT, "16 A", 16)  # type: ignore[valid-type]
+    rated_current: quantity(DEVICE_RATING, "16 A", 16)  # type: ignore[valid-type]
 
 
 class RcdIn(Strict):
@@ -66,7 +67,7 @@ class SupplyIn(Strict):
     earthing: Literal["TN-S", "TN-C-S", "TT"] = "TN-C-S"
     device: DeviceIn | None = None
     rcd: RcdIn | None = None
-    electrode_resistance: quantity(IMPEDANCE, "60 ohm") | None = None  # type: ignore[valid-type]
+    electrode_resistance: quantity(ELECTRODE_RESISTANCE, "60 ohm") | None = None  # type: ignore[valid-type]
     ambient_temperature: quantity(TEMPERATURE, "25 degC", 30) = 30.0  # type: ignore[valid-type]
 
 

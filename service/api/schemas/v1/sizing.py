@@ -16,6 +16,8 @@ from msgspec import Meta
 from service.api.schemas.v1.common import CalculationNotes, ConductorSizeField, MaterialField, Out, Strict, quantity
 from service.units import (
     CURRENT,
+    DEVICE_RATING,
+    ELECTRODE_RESISTANCE,
     DISCONNECTION_TIME,
     LET_THROUGH_ENERGY,
     LOAD_VOLTAGE,
@@ -124,7 +126,7 @@ class DeviceIn(Strict):
     type: Annotated[Literal["B", "C", "D", "gG"] | None, Meta(description=(
         f"{IEC}: circuit-breaker type per IEC 60898-1 (B, C, D) or a gG fuse-link per IEC 60269-1. Default B. "
         "NEC: a fuse or inverse-time breaker of a Table 240.6(A) rating, no type."))] = None
-    rated_current: quantity(CURRENT, "32 A", 32) | None = None  # type: ignore[valid-type]
+    rated_current: quantity(DEVICE_RATING, "32 A", 32) | None = None  # type: ignore[valid-type]
     """Leave out to let the service pick the smallest standard rating at least Ib."""
 
 
@@ -152,7 +154,7 @@ class SupplyIn(Strict, kw_only=True):
     ze: quantity(IMPEDANCE, "0.35 ohm", 0.35) | None = None  # type: ignore[valid-type]
     prospective_fault_current: quantity(CURRENT, "6 kA", 6000) | None = None  # type: ignore[valid-type]
     frequency: quantity(FREQUENCY, "50 Hz", 50) | None = None  # type: ignore[valid-type]
-    electrode_resistance: quantity(IMPEDANCE, "60 ohm", 60) | None = None  # type: ignore[valid-type]
+    electrode_resistance: quantity(ELECTRODE_RESISTANCE, "60 ohm", 60) | None = None  # type: ignore[valid-type]
     system: Annotated[Literal["120V", "240V", "277V", "208Y/120V", "480Y/277V"] | None, Meta(description=(
         f"{NEC}, and required there: the nominal system and circuit. 120V (line and neutral), 240V (two lines of "
         "120/240 V), 277V (line and neutral of 480Y/277 V), single-phase; 208Y/120V, 480Y/277V three-phase, 60 Hz."))] = None

@@ -103,7 +103,8 @@ class NecRegime:
         if load.apparent_power_va is not None:
             s = load.apparent_power_va
             ib = s / (k * v)
-            formula = (f"I = S / ({root}V) = {s:g} / ({'√3 x ' if three else ''}{v:g}); apparent power S given "
+            over = f"(√3 V) = {s:g} / (√3 x {v:g})" if three else f"V = {s:g} / {v:g}"
+            formula = (f"I = S / {over}; apparent power S given "
                        f"(P = S pf = {s * load.power_factor:g} W); {basis}")
             return Step("Load current", formula, ib, "A", "common practice: S = √3 V I three-phase, S = V I single-phase")
         ib = load.power_w / (load.efficiency * k * v * load.power_factor)
