@@ -17,6 +17,7 @@ import math
 import re
 from dataclasses import dataclass
 from functools import lru_cache
+from typing import Literal
 
 import pint
 
@@ -24,6 +25,9 @@ from service.core.conductors import SizeSpec
 
 _REGISTRY = pint.UnitRegistry(autoconvert_offset_to_baseunit=False)
 _REGISTRY.formatter.default_format = "~P"
+# pint knows the volt-ampere (apparent power) but not the var; both have the dimension of the watt, so which of
+# the three a string names is read from its unit (see parse_power), never from its dimension.
+_REGISTRY.define("volt_ampere_reactive = volt * ampere = var = VAr = VAR")
 
 
 class QuantityError(ValueError):
@@ -60,7 +64,7 @@ class QuantityKind:
         limits = f" Allowed: {' and '.join(bounds)}." if bounds else ""
         return (
             f"{self.name.capitalize()}: a number in {self.unit}, or a string with a unit "
-            f"such as \"{self.example}\".{limits}"
+            f"such as \"{self.example}\" (a string without a unit is refused).{limits}"
         )
 
 
@@ -69,6 +73,25 @@ TEMPERATURE = QuantityKind("conductor or ambient temperature", "degC", "70 degC"
 VOLTAGE = QuantityKind("voltage", "V", "230 V", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
 CURRENT = QuantityKind("current", "A", "16 A", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
 POWER = QuantityKind("power", "W", "3 kW", minimum=0.0, exclusive_minimum=True, maximum=1.0e9)
+# A protective device's rated current: only the ratings the device's standard lists are accepted (checked where
+# the tables are: IEC 60898-1 5.3.2 for B/C/D, IEC 60269-1 for gG fuse-links, NEC Table 240.6(A)).
+DEVICE_RATING = QuantityKind(
+    "rated current In, a standard rating of the device (IEC 60898-1 5.3.2 preferred values for types B, C, D; "
+    "IEC 60269-1 for gG; NEC Table 240.6(A)); another value is refused", "A", "32 A", minimum=0.0,
+    exclusive_minimum=True, maximum=1.0e6)
+ELECTRODE_RESISTANCE = QuantityKind(
+    "resistance RA of the installation's earth electrode (TT); the earth-fault loop runs through it, so the loop "
+    "impedance given (Ze, or the socket's earth loop) must not be less than RA", "ohm", "60 ohm", minimum=0.0,
+    exclusive_minimum=True, maximum=1.0e6)
+# A load's power: the unit says which (W, kW, hp: active P; VA, kVA: apparent S); a bare number is in watts.
+AC_POWER = QuantityKind("power, active (W, kW) or apparent (VA, kVA) as its unit says", "W", "10 kVA", minimum=0.0,
+                        exclusive_minimum=True, maximum=1.0e9)
+LOAD_VOLTAGE = QuantityKind(
+    "load voltage: single-phase line-to-neutral (within 10 % of U0), three-phase line-to-line (within 10 % of "
+    "√3 U0); the NEC: the circuit voltage of supply.system (line-to-line for three-phase). Default from the supply",
+    "V", "400 V", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
+REACTIVE_POWER = QuantityKind("reactive power (positive lagging, negative leading)", "var", "2 kvar",
+                               minimum=-1.0e9, maximum=1.0e9)
 RESISTANCE = QuantityKind("resistance", "ohm", "0.35 ohm", minimum=0.0, maximum=1.0e12)
 FREQUENCY = QuantityKind("frequency", "Hz", "50 Hz", minimum=0.0, exclusive_minimum=True, maximum=1.0e6)
 # Network solver inputs.  Sources are signed (a DC source may be given
@@ -160,15 +183,53 @@ def _split(text: str) -> tuple[float, str]:
     return _check_finite(float(match["number"])), match["unit"]
 
 
-def parse_quantity(value: float | int | str, kind: QuantityKind) -> float:
-    """Return ``value`` as a float in ``kind.unit``, or raise QuantityError."""
+# The bare-number unit of each kind in words, for the message refusing a string without a unit.
+_UNIT_WORDS = {
+    "m": "metres", "m^2": "square metres", "degC": "degrees Celsius", "V": "volts", "A": "amperes", "W": "watts",
+    "ohm": "ohms", "ohm/m": "ohms per metre", "Hz": "hertz", "H": "henries", "F": "farads", "J": "joules",
+    "kg": "kilograms", "K": "kelvins", "deg": "degrees", "s": "seconds", "K*m/W": "kelvin metres per watt",
+    "A^2*s": "ampere-squared seconds", "var": "var",
+}
+
+PowerKind = Literal["active", "apparent", "reactive"]
+_POWER_UNITS = {"active": "W", "apparent": "VA", "reactive": "var"}
+
+
+@dataclass(frozen=True, slots=True)
+class Power:
+    """A power as given: ``value`` in W (active), VA (apparent) or var (reactive), as ``kind`` says."""
+
+    value: float
+    kind: PowerKind
+
+    @property
+    def unit(self) -> str:
+        return _POWER_UNITS[self.kind]
+
+
+def _power_kind(unit: pint.Unit) -> PowerKind:
+    """Which power a unit names: var is reactive, VA (or V·A) apparent, anything else (W, kW, hp) active."""
+    names = dict(unit._units)  # noqa: SLF001 - pint's own record of the unit's factors and exponents
+    if any(name.endswith("volt_ampere_reactive") for name in names):
+        return "reactive"
+    if any(name.endswith("volt_ampere") for name in names):
+        return "apparent"
+    if any(n.endswith("volt") and e == 1 for n, e in names.items()) and any(
+            n.endswith("ampere") and e == 1 for n, e in names.items()):
+        return "apparent"
+    return "active"
+
+
+def _parse(value: float | int | str, kind: QuantityKind) -> tuple[float, pint.Unit | None]:
+    """``value`` in ``kind.unit``, and the unit it was given in (None for a bare number)."""
     if isinstance(value, bool):  # bool is an int subclass: refuse it explicitly
         raise QuantityError(f"expected a {kind.name}, got a boolean")
     if isinstance(value, (int, float)):
-        return _check_range(_check_finite(float(value)), kind)
+        return _check_range(_check_finite(float(value)), kind), None
     number, unit_text = _split(value)
-    if not unit_text:
-        return _check_range(number, kind)
+    if not unit_text:  # "30": metres or feet?  A string says its unit; only a JSON number takes the documented one
+        raise QuantityError(f"'{value.strip()[:40]}' has no unit: give a unit, e.g. '{kind.example}', or a bare "
+                            f"number (meaning {_UNIT_WORDS.get(kind.unit, kind.unit)})")
     if kind.difference:  # a rise in degrees Celsius or Fahrenheit is a difference, never a point on the scale
         unit_text = _OFFSET_AS_DIFFERENCE.sub(lambda m: "delta_" + m[1], _units_spelling(unit_text))
     try:
@@ -182,7 +243,26 @@ def parse_quantity(value: float | int | str, kind: QuantityKind) -> float:
     except Exception:  # noqa: BLE001 - pint's expression parser, fed arbitrary client text, raises assorted
         # types besides its own (AssertionError, tokenize.TokenError, KeyError...): each means "not a unit".
         raise QuantityError(f"'{unit_text[:40]}' is not a known unit") from None
-    return _check_range(_check_finite(float(converted)), kind)
+    return _check_range(_check_finite(float(converted)), kind), unit
+
+
+def parse_quantity(value: float | int | str, kind: QuantityKind) -> float:
+    """Return ``value`` as a float in ``kind.unit``, or raise QuantityError.
+
+    A power field read this way takes the power its unit names only (W active, var reactive): VA and var have
+    the watt's dimension but are not watts.
+    """
+    number, unit = _parse(value, kind)
+    expected = next((k for k, u in _POWER_UNITS.items() if u == kind.unit), None)
+    if unit is not None and expected is not None and (found := _power_kind(unit)) != expected:
+        raise QuantityError(f"'{value}' is {found} power: this field takes {expected} power ({kind.unit})")
+    return number
+
+
+def parse_power(value: float | int | str, kind: QuantityKind) -> Power:
+    """A power field that may be active (W), apparent (VA) or reactive (var); a bare number is in watts."""
+    number, unit = _parse(value, kind)
+    return Power(number, "active" if unit is None else _power_kind(unit))
 
 
 _AWG = re.compile(r"^\s*(?:(?P<gauge>\d{1,2}|[1-4]/0)\s*AWG|AWG\s*(?P<gauge2>\d{1,2}|[1-4]/0))\s*$", re.IGNORECASE)

@@ -2,20 +2,23 @@
 
 from __future__ import annotations
 
-from service.api.inputs import FieldReader
+from service.api.inputs import FieldReader, check_tt_loop
 from service.api.schemas.v1 import chains as s
 from service.core.chains import Appliance, Chain, HeatingTask, Lead, Limits, Reel, SourceImpedance, Supply
 from service.core.conductors import default_library
 from service.core.errors import CalcError
+from service.core.protection import default_protection
+from service.core.protection.ratings import nonstandard_rating, standard_ratings
 from service.units import (
+    AC_POWER,
     CURRENT,
+    DEVICE_RATING,
+    ELECTRODE_RESISTANCE,
     ENERGY,
     FREQUENCY,
-    IMPEDANCE,
     INDUCTIVE_REACTANCE,
     LENGTH,
     MASS,
-    POWER,
     RESIDUAL_CURRENT,
     RESISTANCE,
     TEMPERATURE,
@@ -55,7 +58,18 @@ def _supply(reader: FieldReader, supply: s.SupplyIn) -> Supply:
                    "supply", "loop_impedance")
     line_earth = _loop(reader, supply.earth_loop_impedance, supply.prospective_earth_fault_current, u0,
                        "earth_loop_impedance", "prospective_earth_fault_current")
+    ra = _optional(reader, supply.electrode_resistance, ELECTRODE_RESISTANCE, "supply", "electrode_resistance")
+    if line_earth is not None:
+        given = "earth_loop_impedance" if supply.earth_loop_impedance is not None else "prospective_earth_fault_current"
+        check_tt_loop(reader, supply.earthing, line_earth.magnitude_ohm, ra,
+                      ("supply", given), ("supply", "electrode_resistance"))
     device = supply.device
+    rating = None if device is None else reader.quantity(device.rated_current, DEVICE_RATING, "supply", "device",
+                                                         "rated_current")
+    if rating is not None and rating == rating:
+        problem = nonstandard_rating(device.type, rating, *standard_ratings(device.type, default_protection()))
+        if problem is not None:
+            reader.add(problem, "supply", "device", "rated_current")
     return Supply(
         nominal_voltage_v=u0,
         frequency_hz=reader.quantity(supply.frequency, FREQUENCY, "supply", "frequency"),
@@ -63,13 +77,11 @@ def _supply(reader: FieldReader, supply: s.SupplyIn) -> Supply:
         line_earth=line_earth,
         earthing=supply.earthing,
         device_kind=None if device is None else device.type,
-        device_rating_a=None if device is None else reader.quantity(device.rated_current, CURRENT, "supply", "device",
-                                                                       "rated_current"),
+        device_rating_a=rating,
         rcd_sensitivity_a=None if supply.rcd is None else reader.quantity(
             supply.rcd.rated_residual_current, RESIDUAL_CURRENT, "supply", "rcd", "rated_residual_current"),
         ambient_c=reader.quantity(supply.ambient_temperature, TEMPERATURE, "supply", "ambient_temperature"),
-        electrode_resistance_ohm=_optional(reader, supply.electrode_resistance, IMPEDANCE, "supply",
-                                           "electrode_resistance"),
+        electrode_resistance_ohm=ra,
     )
 
 
@@ -114,11 +126,20 @@ def _heating(reader: FieldReader, task: s.HeatingTaskIn | None, j: int) -> Heati
                                                           "temperature_rise"))
 
 
+def _rated_power_w(reader: FieldReader, a: s.ApplianceIn, j: int) -> float:
+    """The active power: as given in W, or P = S cos φ from an apparent power in VA (common practice)."""
+    power = reader.power(a.rated_power, AC_POWER, "appliances", j, "rated_power")
+    if power.kind == "reactive":
+        reader.add("reactive power (var) alone does not rate an appliance: give its active power (W) with "
+                   "power_factor, or its apparent power (VA)", "appliances", j, "rated_power")
+    return power.value * a.power_factor if power.kind == "apparent" else power.value
+
+
 def _appliance(reader: FieldReader, a: s.ApplianceIn, j: int, last_outlet: int) -> Appliance:
     return Appliance(
         name=a.name or f"appliance {j}",
         outlet=last_outlet if a.outlet is None else a.outlet,
-        rated_power_w=reader.quantity(a.rated_power, POWER, "appliances", j, "rated_power"),
+        rated_power_w=_rated_power_w(reader, a, j),
         rated_voltage_v=reader.quantity(a.rated_voltage, VOLTAGE, "appliances", j, "rated_voltage"),
         power_factor=a.power_factor,
         leading=a.leading,

@@ -5,9 +5,9 @@ from __future__ import annotations
 from service.api.inputs import FieldReader
 from service.api.schemas.v1 import raceways as r
 from service.api.schemas.v1 import sizing as s
-from service.api.sizing_input import check_protective_mode, regime_fields
+from service.api.sizing_input import check_protective_mode, load_power, regime_fields
 from service.core.sizing.nec import SYSTEMS, FillConductor, NecCircuit, NecLoad, NecSizingInput
-from service.units import CURRENT, FREQUENCY, LENGTH, POWER, TEMPERATURE
+from service.units import CURRENT, DEVICE_RATING, FREQUENCY, LENGTH, LOAD_VOLTAGE, TEMPERATURE
 
 NEC_FREQUENCY_HZ = 60.0  # Chapter 9 Table 9 holds 60 Hz values only
 
@@ -20,17 +20,48 @@ def _size_label(reader: FieldReader, value: float | str, *path: str | int) -> st
     return size.label()
 
 
+# A load's voltage within 10 % of the system's circuit voltage is that circuit's (nameplates such as 115, 200, 230
+# and 460 V sit a few percent below the nominal 120, 208, 240 and 480 V: common practice); the current is then
+# computed at the nominal system voltage, 220.5(A).
+VOLTAGE_TOLERANCE = 0.10
+
+
+def _load_voltage(reader: FieldReader, value: float | str | None, system: str | None) -> float | None:
+    """The load's voltage, checked against supply.system: line-to-line for three-phase, the circuit's otherwise."""
+    if value is None:
+        return None
+    v = reader.quantity(value, LOAD_VOLTAGE, "load", "voltage")
+    if system not in SYSTEMS or v != v:
+        return v
+    sys = SYSTEMS[system]
+    near = lambda nominal: abs(v / nominal - 1.0) <= VOLTAGE_TOLERANCE + 1e-12  # noqa: E731
+    if near(sys.nominal_v):
+        return v
+    if sys.phases == "three" and near(sys.source_v):
+        reader.add(f"a three-phase load's voltage is line-to-line: {v:g} V is the line-to-neutral voltage of "
+                   f"{system}, whose line-to-line voltage is {sys.nominal_v:g} V; give {sys.nominal_v:g} V or leave "
+                   f"load.voltage out (a load between line and neutral is a single-phase circuit: supply.system "
+                   f"{sys.source_v:g}V)", "load", "voltage")
+    elif system == "240V" and near(120.0):
+        reader.add(f"{v:g} V is line-to-neutral of the 120/240 V system, but supply.system 240V is the circuit "
+                   "between its two lines: give 240 V, or supply.system 120V", "load", "voltage")
+    else:
+        reader.add(f"{v:g} V does not fit supply.system {system} (a {sys.nominal_v:g} V "
+                   f"{'line-to-line ' if sys.phases == 'three' else ''}circuit, within 10 %): choose the system the "
+                   "load is connected to, or leave load.voltage out", "load", "voltage")
+    return v
+
+
 def _load(reader: FieldReader, load: s.LoadIn, system: str | None) -> NecLoad:
     if (load.design_current is None) == (load.power is None):
         reader.add("give either design_current or power (with power_factor), not both and not neither", "load")
-    if load.voltage is not None:
-        reader.add("the NEC regime takes the voltage from supply.system", "load", "voltage")
     if load.phases is not None and system in SYSTEMS and load.phases != SYSTEMS[system].phases:
         reader.add(f"supply.system {system} is {SYSTEMS[system].phases}-phase", "load", "phases")
+    power_w, apparent_va = load_power(reader, load)
     return NecLoad(
         design_current_a=None if load.design_current is None else reader.quantity(load.design_current, CURRENT, "load",
                                                                                    "design_current"),
-        power_w=None if load.power is None else reader.quantity(load.power, POWER, "load", "power"),
+        power_w=power_w, apparent_power_va=apparent_va, voltage_v=_load_voltage(reader, load.voltage, system),
         power_factor=load.power_factor, efficiency=load.efficiency, continuous_share=load.continuous_share,
     )
 
@@ -74,7 +105,7 @@ def to_nec_input(req: s.SizingRequest | s.VerifyRequest) -> tuple[NecSizingInput
         load=_load(reader, req.load, system),
         circuit=_circuit(reader, req.circuit),
         system=system or "120V",
-        rated_current_a=None if rated is None else reader.quantity(rated, CURRENT, "protection", "device", "rated_current"),
+        rated_current_a=None if rated is None else reader.quantity(rated, DEVICE_RATING, "protection", "device", "rated_current"),
         drop_limit_pct=req.limits.voltage_drop,
         upstream_drop_pct=req.limits.upstream_drop,
         egc_mode=mode,

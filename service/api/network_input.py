@@ -40,14 +40,15 @@ from service.core.network.errors import (
 )
 from service.core.network.nodes import int_label
 from service.units import (
+    AC_POWER,
     ANALYSIS_FREQUENCY,
     CAPACITANCE,
     INDUCTANCE,
     LENGTH,
     PHASE_ANGLE,
-    POWER,
     REACTANCE,
     REACTANCE_PER_LENGTH,
+    REACTIVE_POWER,
     RESISTANCE,
     SERIES_CAPACITANCE,
     SOURCE_CURRENT,
@@ -81,6 +82,7 @@ class ParsedNetwork:
     cables: dict[int, CableUse] = field(default_factory=dict)  # request position -> lookup
     dead_ends: list[str] = field(default_factory=list)  # nodes named by one terminal only
     frequency_given: bool = True  # False: the request left it out and DEFAULT_FREQUENCY_HZ was taken
+    load_steps: list[tuple[int, str, float]] = field(default_factory=list)  # load ratings derived from S or Q
 
 
 # --------------------------------------------------------------------------- limits
@@ -127,6 +129,7 @@ class _Converter:
         self.cables: dict[int, CableUse] = {}
         self._conductors: dict[tuple[SizeSpec, str, int], Conductor | str] = {}
         self.arrays: list[tuple[int, np.ndarray, np.ndarray]] = []
+        self.load_steps: list[tuple[int, str, float]] = []  # (request position, formula, value) of derived load ratings
 
     def q(self, value, kind, k: int, name: str) -> float:
         return self.reader.quantity(value, kind, "elements", k, name)
@@ -243,12 +246,44 @@ def _cable_run(c: _Converter, e: s.CableRunIn, k: int):
 
 
 def _load(c: _Converter, e: s.LoadIn, k: int):
-    p = c.q(e.rated_power, POWER, k, "rated_power")
+    """A load from P or S, with power_factor or Q: Q = P tan φ, S² = P² + Q² (power triangle, common practice)."""
+    given = c.reader.power(e.rated_power, AC_POWER, "elements", k, "rated_power")
     v = c.q(e.rated_voltage, VOLTAGE, k, "rated_voltage")
-    if not (math.isfinite(e.power_factor) and 0.0 < e.power_factor <= 1.0):
-        c.reader.add(f"power factor must be greater than 0 and at most 1, got {e.power_factor:g}",
-                     "elements", k, "power_factor")
-    return m.Load(e.id, e.a, e.b, p, v, e.power_factor, e.leading, e.model)
+    q = None if e.rated_reactive_power is None else c.q(e.rated_reactive_power, REACTIVE_POWER, k, "rated_reactive_power")
+    where = ("elements", k)
+    if given.kind == "reactive":
+        c.reader.add("a reactive power goes in rated_reactive_power; rated_power takes the active (W) or apparent (VA) "
+                     "power", *where, "rated_power")
+        return m.Load(e.id, e.a, e.b, math.nan, v, 1.0, e.leading, e.model)
+    if c.dc and (given.kind == "apparent" or q is not None):
+        c.reader.add("a DC load draws active power only: give rated_power in W and no rated_reactive_power", *where,
+                     "rated_power" if given.kind == "apparent" else "rated_reactive_power")
+    if q is not None and e.power_factor is not None:
+        c.reader.add("give power_factor or rated_reactive_power, not both", *where, "power_factor")
+    if q is not None and e.leading and q > 0:
+        c.reader.add("rated_reactive_power is positive (lagging) but leading is true: a leading load has a negative "
+                     "reactive power", *where, "leading")
+    pf, leading = (1.0 if e.power_factor is None else e.power_factor), e.leading
+    if not (math.isfinite(pf) and 0.0 < pf <= 1.0):
+        c.reader.add(f"power factor must be greater than 0 and at most 1, got {pf:g}", *where, "power_factor")
+    if q is None or not math.isfinite(q) or not math.isfinite(given.value):
+        p = given.value * pf if given.kind == "apparent" else given.value
+        if given.kind == "apparent":
+            c.load_steps.append((k, f"P = S cos φ = {given.value:g} x {pf:g} (apparent power given)", p))
+        return m.Load(e.id, e.a, e.b, p, v, pf, leading, e.model)
+    if given.kind == "apparent":
+        if abs(q) >= given.value:
+            c.reader.add(f"|Q| = {abs(q):g} var must be less than S = {given.value:g} VA (P = √(S² − Q²) would be "
+                         "zero or imaginary)", *where, "rated_reactive_power")
+            return m.Load(e.id, e.a, e.b, math.nan, v, 1.0, leading, e.model)
+        p = math.sqrt(given.value ** 2 - q * q)
+        c.load_steps.append((k, f"P = √(S² − Q²) = √({given.value:g}² − {q:g}²) (apparent and reactive power given)", p))
+    else:
+        p = given.value
+    pf = p / math.hypot(p, q)
+    c.load_steps.append((k, f"cos φ = P / √(P² + Q²) = {p:.6g} / √({p:.6g}² + {q:g}²), "
+                            f"{'leading' if q < 0 else 'lagging'}", pf))
+    return m.Load(e.id, e.a, e.b, p, v, pf, q < 0, e.model)
 
 
 def _three_phase(c: _Converter, e: s.ThreePhaseSupplyIn, k: int):
@@ -340,7 +375,8 @@ def to_network(req: s.NetworkSolveRequest, settings: Settings) -> ParsedNetwork:
         thevenin_between=tuple((p.a, p.b) for p in o.thevenin_between),
     )
     net = m.Network(elements=elements, frequency_hz=freq, reference_node=req.reference_node)
-    return ParsedNetwork(net, options, c.cables, _dead_ends(uses, req.reference_node, labels), given)
+    return ParsedNetwork(net, options, c.cables, _dead_ends(uses, req.reference_node, labels), frequency_given=given,
+                         load_steps=c.load_steps)
 
 
 def _dead_ends(uses: Counter, reference: str, labels: np.ndarray) -> list[str]:

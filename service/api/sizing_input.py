@@ -6,7 +6,9 @@ Fields of the request that only the NEC regime uses are refused here (see
 
 from __future__ import annotations
 
-from service.api.inputs import FieldReader
+import math
+
+from service.api.inputs import FieldReader, check_tt_loop
 from service.api.schemas.v1 import sizing as s
 from service.core.sizing import (
     CircuitSpec,
@@ -18,14 +20,17 @@ from service.core.sizing import (
     SupplySpec,
 )
 from service.units import (
+    AC_POWER,
     CURRENT,
+    DEVICE_RATING,
+    ELECTRODE_RESISTANCE,
     DISCONNECTION_TIME,
     LET_THROUGH_ENERGY,
+    LOAD_VOLTAGE,
     FREQUENCY,
     IMPEDANCE,
     LENGTH,
     LENGTH_OR_ZERO,
-    POWER,
     RESIDUAL_CURRENT,
     SOIL_THERMAL_RESISTIVITY,
     TEMPERATURE,
@@ -37,14 +42,33 @@ def _optional(reader: FieldReader, value, kind, *path):
     return None if value is None else reader.quantity(value, kind, *path)
 
 
+def load_power(reader: FieldReader, load: s.LoadIn) -> tuple[float | None, float | None]:
+    """load.power as (active P in W, apparent S in VA), one of them None; reactive power alone is refused."""
+    if load.power is None:
+        return None, None
+    power = reader.power(load.power, AC_POWER, "load", "power")
+    if power.kind == "reactive":
+        reader.add("reactive power (var) alone does not give the load current: give the active power (W) with "
+                   "power_factor, or the apparent power (VA)", "load", "power")
+        return math.nan, None
+    if power.kind == "apparent":
+        if load.efficiency != 1.0:
+            reader.add("an apparent power (VA) is what the load draws, so no efficiency applies: leave efficiency "
+                       "out, or give the output power in W", "load", "efficiency")
+        return None, power.value
+    return power.value, None
+
+
 def _load(reader: FieldReader, load: s.LoadIn) -> LoadSpec:
     if (load.design_current is None) == (load.power is None):
         reader.add("give either design_current or power (with power_factor), not both and not neither", "load")
+    power_w, apparent_va = load_power(reader, load)
     return LoadSpec(
         phases=load.phases or "single",
         design_current_a=_optional(reader, load.design_current, CURRENT, "load", "design_current"),
-        power_w=_optional(reader, load.power, POWER, "load", "power"),
-        voltage_v=_optional(reader, load.voltage, VOLTAGE, "load", "voltage"),
+        power_w=power_w,
+        apparent_power_va=apparent_va,
+        voltage_v=_optional(reader, load.voltage, LOAD_VOLTAGE, "load", "voltage"),
         power_factor=load.power_factor,
         efficiency=load.efficiency,
     )
@@ -78,7 +102,7 @@ def _circuit(reader: FieldReader, c: s.CircuitIn) -> CircuitSpec:
 def _protection(reader: FieldReader, p: s.ProtectionIn) -> ProtectionSpec:
     return ProtectionSpec(
         device_type=p.device.type or "B",
-        rated_current_a=_optional(reader, p.device.rated_current, CURRENT, "protection", "device", "rated_current"),
+        rated_current_a=_optional(reader, p.device.rated_current, DEVICE_RATING, "protection", "device", "rated_current"),
         rcd_residual_current_a=None if p.rcd is None else reader.quantity(
             p.rcd.rated_residual_current, RESIDUAL_CURRENT, "protection", "rcd", "rated_residual_current"),
         required_time_s=_optional(reader, p.required_disconnection_time, DISCONNECTION_TIME, "protection",
@@ -92,14 +116,18 @@ def _protection(reader: FieldReader, p: s.ProtectionIn) -> ProtectionSpec:
 def _supply(reader: FieldReader, sup: s.SupplyIn) -> SupplySpec:
     if sup.ze is None:
         reader.add("required for regime iec60364: the external earth-fault loop impedance", "supply", "ze")
+    earthing = sup.earthing or "TN-C-S"
+    ze = 0.35 if sup.ze is None else reader.quantity(sup.ze, IMPEDANCE, "supply", "ze")
+    ra = _optional(reader, sup.electrode_resistance, ELECTRODE_RESISTANCE, "supply", "electrode_resistance")
+    check_tt_loop(reader, earthing, ze, ra, ("supply", "ze"), ("supply", "electrode_resistance"))
     return SupplySpec(
         u0_v=230.0 if sup.u0 is None else reader.quantity(sup.u0, VOLTAGE, "supply", "u0"),
-        earthing=sup.earthing or "TN-C-S",
-        ze_ohm=0.35 if sup.ze is None else reader.quantity(sup.ze, IMPEDANCE, "supply", "ze"),
+        earthing=earthing,
+        ze_ohm=ze,
         prospective_fault_current_a=_optional(reader, sup.prospective_fault_current, CURRENT, "supply",
                                               "prospective_fault_current"),
         frequency_hz=50.0 if sup.frequency is None else reader.quantity(sup.frequency, FREQUENCY, "supply", "frequency"),
-        electrode_resistance_ohm=_optional(reader, sup.electrode_resistance, IMPEDANCE, "supply", "electrode_resistance"),
+        electrode_resistance_ohm=ra,
     )
 
 

@@ -113,3 +113,47 @@ def test_a_constant_power_load_the_chain_cannot_supply_says_the_most_it_can(clie
 def test_unknown_fields_are_refused(client):
     body = problem(client.post(URL, json={"supply": SOCKET, "leads": [{"length": "1 m", "size": "1.5 mm^2", "colour": "orange"}]}), 400)
     assert "/leads/0/colour" in pointers(body)
+
+
+# --------------------------------------------------------------------------- issue 14: inputs read as what they are
+
+
+def test_an_appliance_rated_in_kva_is_the_same_as_its_active_power(client):
+    # common practice: P = S cos φ, so 2 kVA at cos φ 0.9 is the 1.8 kW appliance, drawing the same everywhere
+    lead = [{"length": "20 m", "size": "1.5 mm^2"}]
+    by_va = client.post(URL, json={"supply": SOCKET, "leads": lead,
+                                   "appliances": [{"rated_power": "2 kVA", "power_factor": 0.9}]}).json()
+    by_w = client.post(URL, json={"supply": SOCKET, "leads": lead,
+                                  "appliances": [{"rated_power": "1.8 kW", "power_factor": 0.9}]}).json()
+    assert by_va["appliances"][0]["power_w"] == pytest.approx(by_w["appliances"][0]["power_w"], rel=1e-12)
+    assert by_va["appliances"][0]["power_pct_of_rated"] == pytest.approx(by_w["appliances"][0]["power_pct_of_rated"])
+
+
+def test_an_appliance_rated_in_kvar_is_a_422(client):
+    body = problem(client.post(URL, json={"supply": SOCKET, "leads": [{"length": "20 m", "size": "1.5 mm^2"}],
+                                          "appliances": [{"rated_power": "1 kvar"}]}))
+    assert pointers(body) == {"/appliances/0/rated_power"}
+
+
+@pytest.mark.parametrize(("device", "rating"), [("B", "37 A"), ("C", "7 A")])
+def test_a_non_standard_origin_device_rating_is_a_422(client, device, rating):
+    # IEC 60898-1:2015, 5.3.2 preferred rated currents: 6, 8, 10, 13, 16, 20, 25, 32, ... A
+    supply = {**SOCKET, "device": {"type": device, "rated_current": rating}}
+    body = problem(client.post(URL, json={"supply": supply, "leads": [{"length": "20 m", "size": "1.5 mm^2"}]}))
+    assert pointers(body) == {"/supply/device/rated_current"}
+
+
+def test_tt_earth_loop_below_the_electrode_resistance_is_a_422(client):
+    # IEC 60364-4-41:2005, 411.5.4 (TT: the fault loop includes the installation's electrode RA, from memory)
+    supply = {**SOCKET, "earthing": "TT", "earth_loop_impedance": {"resistance": "0.45 ohm"},
+              "electrode_resistance": "120 ohm"}
+    body = problem(client.post(URL, json={"supply": supply, "leads": [{"length": "20 m", "size": "1.5 mm^2"}]}))
+    assert pointers(body) == {"/supply/earth_loop_impedance", "/supply/electrode_resistance"}
+    supply["earth_loop_impedance"] = {"resistance": "125 ohm"}
+    response = client.post(URL, json={"supply": supply, "leads": [{"length": "20 m", "size": "1.5 mm^2"}]})
+    assert response.status_code == 200, response.text
+
+
+def test_a_length_string_without_a_unit_is_a_422(client):
+    body = problem(client.post(URL, json={"supply": SOCKET, "leads": [{"length": "30", "size": "1.5 mm^2"}]}))
+    assert pointers(body) == {"/leads/0/length"}

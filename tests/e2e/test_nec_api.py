@@ -223,3 +223,52 @@ def test_new_nec_fields_with_iec_are_named(client):
         "supply": {"ze": "0.35 ohm", "available_fault_current": "6 kA"}}), 422)
     assert pointers(body) == {"/circuit/parallel_sets", "/circuit/parallel_raceways", "/protection/interrupting_rating",
                               "/supply/available_fault_current"}
+
+
+# --------------------------------------------------------------------------- issue 14: inputs read as what they are
+
+
+def test_nec_kva_is_apparent_power(client):
+    body = ok(client.post(SIZE, json=nec_request(load={"design_current": None, "power": "10 kVA",
+                                                       "power_factor": 0.8})))
+    # common practice: S = V I, so I = 10000 VA / 240 V = 41.67 A (not 10000 / (240 x 0.8) = 52.1 A)
+    assert body["design_current_a"] == pytest.approx(10_000 / 240, rel=1e-9)
+    step = next(s for s in body["notes"]["steps"] if s["name"] == "Load current")
+    assert "apparent power S given" in step["formula"]
+
+
+def test_nec_kvar_is_a_422(client):
+    body = problem(client.post(SIZE, json=nec_request(load={"design_current": None, "power": "10 kvar"})), 422)
+    assert pointers(body) == {"/load/power"}
+
+
+def test_nec_three_phase_load_at_line_to_neutral_voltage_is_a_422(client):
+    # 208Y/120V: 120 V line-to-neutral, 208 V line-to-line (common practice: 208 = √3 x 120)
+    body = problem(client.post(SIZE, json=nec_request(load={"design_current": None, "power": "18 kW",
+                                                            "voltage": "120 V"}, supply={"system": "208Y/120V"})), 422)
+    assert pointers(body) == {"/load/voltage"}
+    assert "line-to-line" in str(body["errors"]) and "line-to-neutral" in str(body["errors"])
+
+
+@pytest.mark.parametrize(("system", "voltage"), [("208Y/120V", "208 V"), ("208Y/120V", "200 V"), ("240V", "230 V")])
+def test_nec_load_voltage_of_the_system_is_accepted_and_the_nominal_used(client, system, voltage):
+    body = ok(client.post(SIZE, json=nec_request(load={"design_current": None, "power": "12 kW", "voltage": voltage},
+                                                 supply={"system": system})))
+    # NFPA 70-2023, 220.5(A): loads are computed at the nominal system voltage (208 V, 240 V), from memory
+    nominal = 208 * 3 ** 0.5 if system == "208Y/120V" else 240
+    assert body["design_current_a"] == pytest.approx(12_000 / nominal, rel=1e-9)
+
+
+@pytest.mark.parametrize(("system", "voltage"), [("240V", "120 V"), ("120V", "240 V"), ("480Y/277V", "400 V")])
+def test_nec_load_voltage_that_does_not_fit_the_system_is_a_422(client, system, voltage):
+    body = problem(client.post(SIZE, json=nec_request(load={"design_current": None, "power": "5 kW",
+                                                            "voltage": voltage}, supply={"system": system})), 422)
+    assert pointers(body) == {"/load/voltage"}
+
+
+@pytest.mark.parametrize("rating", ["17 A", "37 A", 55])
+def test_nec_non_standard_device_rating_is_a_422(client, rating):
+    # NFPA 70-2023, Table 240.6(A): ... 15, 20, 25, 30, 35, 40, 45, 50, 60 ... A; 17, 37 and 55 A are not listed
+    body = problem(client.post(SIZE, json=nec_request(protection={"device": {"rated_current": rating}})), 422)
+    assert pointers(body) == {"/protection/device/rated_current"}
+    assert "Table 240.6(A)" in str(body["errors"])

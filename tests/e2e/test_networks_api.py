@@ -667,3 +667,57 @@ def test_capacitive_source_impedance_is_accepted_at_ac_and_refused_at_dc(client)
     dc = problem(client.post(SOLVE, json={"frequency": 0, "elements": [
         V("E", "n", "0", 100, internal_reactance="-4 ohm"), R("r", "n", "0", 3)]}), 422)
     assert "/elements/0/internal_reactance" in pointers(dc)
+
+
+# --------------------------------------------------------------------------- issue 14: apparent and reactive power
+
+
+def _load_on_ideal_source(**load) -> dict:
+    # an ideal 230 V source straight across the load: the load sits at its rated voltage and draws its rated S
+    return {"frequency": 50, "elements": [
+        V("E", "1", "0", "230 V"),
+        {"type": "load", "id": "L", "a": "1", "b": "0", "rated_voltage": "230 V", **load}]}
+
+
+def test_a_load_rated_in_kva_draws_p_equal_to_s_times_pf(client):
+    body = ok(client.post(SOLVE, json=_load_on_ideal_source(rated_power="10 kVA", power_factor=0.8)))
+    load = by_id(body)["L"]
+    # common practice (power triangle): P = S cos φ = 8 kW, Q = S sin φ = 6 kvar, |S| = 10 kVA
+    assert load["p_w"] == pytest.approx(8000, rel=1e-9) and load["q_var"] == pytest.approx(6000, rel=1e-9)
+    assert load["s_va"] == pytest.approx(10_000, rel=1e-9)
+    step = next(s for s in body["notes"]["steps"] if s["name"] == "Load L: rated active power")
+    assert "apparent power given" in step["formula"] and step["value"] == pytest.approx(8000)
+
+
+def test_a_load_given_by_p_and_q(client):
+    body = ok(client.post(SOLVE, json=_load_on_ideal_source(rated_power="8 kW", rated_reactive_power="-6 kvar")))
+    load = by_id(body)["L"]
+    # common practice: cos φ = P / √(P² + Q²) = 0.8; Q < 0 is a leading (capacitive) load
+    assert load["p_w"] == pytest.approx(8000, rel=1e-9) and load["q_var"] == pytest.approx(-6000, rel=1e-9)
+    assert load["power_factor_sense"] == "leading"
+
+
+def test_a_load_given_by_s_and_q(client):
+    body = ok(client.post(SOLVE, json=_load_on_ideal_source(rated_power="10 kVA", rated_reactive_power="6 kvar")))
+    load = by_id(body)["L"]
+    # common practice: P = √(S² − Q²) = √(100 − 36) kW = 8 kW
+    assert load["p_w"] == pytest.approx(8000, rel=1e-9) and load["q_var"] == pytest.approx(6000, rel=1e-9)
+
+
+@pytest.mark.parametrize(("load", "pointer"), [
+    ({"rated_power": "6 kvar"}, "/elements/1/rated_power"),
+    ({"rated_power": "8 kW", "rated_reactive_power": "6 kW"}, "/elements/1/rated_reactive_power"),
+    ({"rated_power": "8 kW", "rated_reactive_power": "6 kvar", "power_factor": 0.8}, "/elements/1/power_factor"),
+    ({"rated_power": "8 kW", "rated_reactive_power": "6 kvar", "leading": True}, "/elements/1/leading"),
+    ({"rated_power": "5 kVA", "rated_reactive_power": "6 kvar"}, "/elements/1/rated_reactive_power"),
+])
+def test_reactive_power_where_it_does_not_fit_is_a_422(client, load, pointer):
+    body = problem(client.post(SOLVE, json=_load_on_ideal_source(**load)), 422)
+    assert pointers(body) == [pointer]
+
+
+def test_apparent_or_reactive_power_in_a_dc_analysis_is_a_422(client):
+    net = _load_on_ideal_source(rated_power="100 VA")
+    net["frequency"] = 0
+    body = problem(client.post(SOLVE, json=net), 422)
+    assert pointers(body) == ["/elements/1/rated_power"]  # common practice: DC power is P = U I, no S or Q

@@ -181,3 +181,105 @@ def test_flat_spaced_in_conduit_and_drop_basis_for_the_nec_are_refused(client):
            "circuit": {"length": "50 ft", "drop_temperature_basis": "estimated_from_load"},
            "supply": {"system": "120V"}}
     assert "/circuit/drop_temperature_basis" in pointers(problem(client.post(SIZE, json=nec), 422))
+
+
+# --------------------------------------------------------------------------- issue 14: inputs read as what they are
+
+
+def _ib_step(body: dict) -> dict:
+    return next(s for s in body["notes"]["steps"] if s["name"] == "Design current Ib")
+
+
+def test_kva_is_apparent_power_not_active(client):
+    body = ok(client.post(SIZE, json=request(load={"design_current": None, "power": "10 kVA", "power_factor": 0.8})))
+    # common practice: S = U I single-phase, so Ib = 10000 VA / 230 V = 43.48 A whatever cos φ is (not 10000 / (230 x
+    # 0.8) = 54.3 A, which reads the kVA as kW)
+    assert body["design_current_a"] == pytest.approx(10_000 / 230, rel=1e-9)
+    assert "apparent power S given" in _ib_step(body)["formula"] and "P = S cos φ = 8000 W" in _ib_step(body)["formula"]
+
+
+def test_kva_three_phase_is_s_over_root3_u(client):
+    body = ok(client.post(SIZE, json=request(load={"design_current": None, "phases": "three", "power": "30 kVA",
+                                                   "power_factor": 0.7})))
+    # common practice: S = √3 U I, U = √3 x 230 V = 398.4 V line-to-line: Ib = 30000 / (√3 x 398.4) = 43.48 A
+    assert body["design_current_a"] == pytest.approx(30_000 / (3 * 230), rel=1e-9)
+
+
+def test_kw_step_says_active_power_was_given(client):
+    body = ok(client.post(SIZE, json=request(load={"design_current": None, "power": "8 kW", "power_factor": 0.8})))
+    assert body["design_current_a"] == pytest.approx(8000 / (230 * 0.8), rel=1e-9)  # common practice: P = U I cos φ
+    assert "active power P given" in _ib_step(body)["formula"]
+
+
+def test_kvar_for_the_load_power_is_a_422(client):
+    body = problem(client.post(SIZE, json=request(load={"design_current": None, "power": "6 kvar"})), 422)
+    assert pointers(body) == {"/load/power"}
+
+
+def test_kva_with_an_efficiency_is_a_422(client):
+    body = problem(client.post(SIZE, json=request(load={"design_current": None, "power": "10 kVA",
+                                                        "efficiency": 0.9})), 422)
+    assert pointers(body) == {"/load/efficiency"}
+
+
+def test_three_phase_load_at_u0_is_a_422_explaining_line_to_line(client):
+    # 18 kW three-phase at "230 V" on a 230/400 V supply: 230 V is U0 (line-to-neutral); the line-to-line voltage is
+    # √3 x 230 = 398 V (common practice: U = √3 U0 in a star system)
+    body = problem(client.post(SIZE, json=request(load={"design_current": None, "phases": "three", "power": "18 kW",
+                                                        "voltage": "230 V"})), 422)
+    assert pointers(body) == {"/load/voltage"}
+    message = body["errors"][0]["detail"] if "detail" in body["errors"][0] else str(body["errors"][0])
+    assert "line-to-line" in message and "line-to-neutral" in message and "398" in message
+
+
+@pytest.mark.parametrize(("phases", "voltage"), [("three", "300 V"), ("single", "400 V"), ("single", "110 V")])
+def test_load_voltage_that_does_not_fit_the_supply_is_a_422(client, phases, voltage):
+    # IEC 60038:2009 Table 1: ±10 % of 230 V or of 400 V (from memory); 300 V and 110 V fit neither, and a
+    # single-phase circuit here runs line to neutral, so 400 V does not fit it
+    body = problem(client.post(SIZE, json=request(load={"design_current": None, "phases": phases, "power": "5 kW",
+                                                        "voltage": voltage})), 422)
+    assert pointers(body) == {"/load/voltage"}
+
+
+def test_three_phase_load_at_400_v_on_230_v_supply_is_accepted(client):
+    body = ok(client.post(SIZE, json=request(load={"design_current": None, "phases": "three", "power": "18 kW",
+                                                   "voltage": "400 V", "power_factor": 0.9})))
+    # common practice: Ib = P / (√3 U cos φ) = 18000 / (√3 x 400 x 0.9) = 28.87 A
+    assert body["design_current_a"] == pytest.approx(18_000 / (3 ** 0.5 * 400 * 0.9), rel=1e-9)
+
+
+@pytest.mark.parametrize(("device", "rating"), [("B", "37 A"), ("C", "7 A"), ("B", 35), ("gG", "36 A")])
+def test_a_non_standard_device_rating_is_a_422(client, device, rating):
+    # IEC 60898-1:2015, 5.3.2 preferred rated currents: 6, 8, 10, 13, 16, 20, 25, 32, 40, 50, 63, 80, 100, 125 A
+    # IEC 60269-1:2006, 5.3.1 fuse-link rated currents: ... 25, 32, 40 ... A (from memory)
+    body = problem(client.post(SIZE, json=request(protection={"device": {"type": device, "rated_current": rating}})),
+                   422)
+    assert pointers(body) == {"/protection/device/rated_current"}
+    assert "not a standard rating" in str(body["errors"])
+
+
+def test_a_standard_device_rating_is_accepted(client):
+    body = ok(client.post(SIZE, json=request(protection={"device": {"type": "B", "rated_current": "32 A"}})))
+    assert body["device"]["rated_current_a"] == 32  # IEC 60898-1:2015, 5.3.2: 32 A is a preferred rating
+
+
+def test_tt_with_ze_below_the_electrode_resistance_is_a_422(client):
+    # IEC 60364-4-41:2005, 411.5.4 (TT: the fault loop includes the installation's electrode RA): Ze 0.45 ohm cannot
+    # be the loop of an installation whose electrode alone is 120 ohm
+    body = problem(client.post(SIZE, json=request(supply={"earthing": "TT", "ze": "0.45 ohm",
+                                                          "electrode_resistance": "120 ohm"},
+                                                  protection={"rcd": {"rated_residual_current": "30 mA"}})), 422)
+    assert pointers(body) == {"/supply/ze", "/supply/electrode_resistance"}
+    assert "electrode" in str(body["errors"])
+
+
+def test_tt_with_ze_above_the_electrode_resistance_is_accepted(client):
+    ok(client.post(SIZE, json=request(supply={"earthing": "TT", "ze": "140 ohm", "electrode_resistance": "120 ohm"},
+                                      protection={"rcd": {"rated_residual_current": "30 mA"}})))
+
+
+def test_a_length_string_without_a_unit_is_a_422_saying_which_unit_a_number_means(client):
+    body = problem(client.post(SIZE, json=request(circuit={"length": "30"})), 422)
+    assert pointers(body) == {"/circuit/length"}
+    assert "give a unit, e.g. '30 m', or a bare number (meaning metres)" in str(body["errors"])
+    ok(client.post(SIZE, json=request(circuit={"length": 30})))  # the JSON number is metres, as documented

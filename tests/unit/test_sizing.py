@@ -226,3 +226,75 @@ def test_a_sizing_needs_at_most_two_solves(monkeypatch):
     calls.clear()
     r = size_conductor(spec(circuit=CircuitSpec(length_m=140.0, method="C")))
     assert len(calls) == 2 and r.solves == 2
+
+
+# --------------------------------------------------------------------------- issue 14: the load's power and voltage
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+from service.core.sizing.engine import design_current  # noqa: E402
+
+_PF = st.floats(min_value=0.05, max_value=1.0)
+_PHASES = st.sampled_from(["single", "three"])
+
+
+@settings(max_examples=200, deadline=None)
+@given(s_va=st.floats(min_value=10.0, max_value=1e6), pf1=_PF, pf2=_PF, phases=_PHASES)
+def test_ib_from_apparent_power_does_not_depend_on_the_power_factor(s_va, pf1, pf2, phases):
+    # common practice: S = U I (single-phase), S = √3 U I (three-phase): cos φ does not enter
+    ib = [design_current(spec(load=LoadSpec(phases=phases, apparent_power_va=s_va, power_factor=pf)))[0]
+          for pf in (pf1, pf2)]
+    assert ib[0] == pytest.approx(ib[1], rel=1e-12)
+    u = 230.0 if phases == "single" else math.sqrt(3) * 230.0
+    assert ib[0] == pytest.approx(s_va / (u if phases == "single" else math.sqrt(3) * u), rel=1e-12)
+
+
+@settings(max_examples=200, deadline=None)
+@given(p_w=st.floats(min_value=10.0, max_value=1e6), pf1=_PF, pf2=_PF, phases=_PHASES)
+def test_ib_from_active_power_falls_as_the_power_factor_rises(p_w, pf1, pf2, phases):
+    # common practice: Ib = P / (U cos φ): a better power factor draws less current for the same P
+    low, high = sorted((pf1, pf2))
+    ib_low, ib_high = (design_current(spec(load=LoadSpec(phases=phases, power_w=p_w, power_factor=pf)))[0]
+                       for pf in (low, high))
+    assert ib_high <= ib_low * (1 + 1e-12)
+    if high > low * (1 + 1e-9):
+        assert ib_high < ib_low
+
+
+def test_ib_from_kva_is_s_over_u_not_s_over_u_pf():
+    ib, step = design_current(spec(load=LoadSpec(apparent_power_va=10_000.0, power_factor=0.8)))
+    assert ib == pytest.approx(43.478, rel=1e-4)  # common practice: 10 kVA / 230 V = 43.5 A (54 A reads kVA as kW)
+    assert "apparent power S given" in step.formula
+
+
+@pytest.mark.parametrize(("phases", "voltage", "fragment"), [
+    ("three", 230.0, "line-to-neutral voltage U0 = 230 V"),  # an 18 kW three-phase load "at 230 V"
+    ("three", 300.0, "fits neither"),
+    ("single", 400.0, "line-to-line"),
+    ("single", 110.0, "fits neither"),
+])
+def test_a_load_voltage_that_does_not_match_the_supply_is_refused(phases, voltage, fragment):
+    # common practice: in a 230/400 V star system U = √3 U0; IEC 60038:2009 Table 1 ±10 % (from memory)
+    with pytest.raises(CalcError) as caught:
+        design_current(spec(load=LoadSpec(phases=phases, power_w=18_000.0, voltage_v=voltage)))
+    assert fragment in caught.value.detail
+    assert [b.location for b in caught.value.blames] == [("load", "voltage")]
+
+
+@pytest.mark.parametrize(("phases", "voltage"), [("three", 400.0), ("three", 415.0), ("single", 240.0)])
+def test_a_load_voltage_within_tolerance_of_the_supply_is_used(phases, voltage):
+    ib, step = design_current(spec(load=LoadSpec(phases=phases, power_w=18_000.0, voltage_v=voltage)))
+    k = math.sqrt(3) if phases == "three" else 1.0
+    assert ib == pytest.approx(18_000.0 / (k * voltage), rel=1e-12)  # common practice: P = √3 U I (or U I)
+    assert "given" in step.formula
+
+
+@pytest.mark.parametrize(("device", "rating"), [("B", 37.0), ("C", 7.0), ("gG", 36.0)])
+def test_a_given_rating_that_is_not_standard_is_refused(device, rating):
+    # IEC 60898-1:2015, 5.3.2 preferred rated currents (6, 8, 10, 13, 16, 20, 25, 32, 40 ... A); IEC 60269-1:2006,
+    # 5.3.1 fuse-link ratings (... 32, 40 ... A, from memory)
+    with pytest.raises(CalcError) as caught:
+        size_conductor(spec(protection=ProtectionSpec(device, rated_current_a=rating)))
+    assert caught.value.code == "non-standard-rating"
+    assert [b.location for b in caught.value.blames] == [("protection", "device", "rated_current")]

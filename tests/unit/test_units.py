@@ -11,14 +11,19 @@ import math
 import pytest
 
 from service.core.conductors import KCMIL_M2
+import service.units as units
 from service.units import (
+    AC_POWER,
     CURRENT,
     LENGTH,
     POWER,
+    REACTIVE_POWER,
     TEMPERATURE,
     VOLTAGE,
     QuantityError,
+    QuantityKind,
     parse_conductor_size,
+    parse_power,
     parse_quantity,
 )
 
@@ -42,7 +47,6 @@ from service.units import (
         ("35 °C", TEMPERATURE, 35.0),
         ("95 degF", TEMPERATURE, 35.0),  # (95 - 32) x 5/9
         ("308.15 K", TEMPERATURE, 35.0),
-        ("30", LENGTH, 30.0),  # a bare number in a string is in the field's unit
     ],
 )
 def test_strings_with_units_convert_to_the_fields_unit(text, kind, expected):
@@ -75,6 +79,11 @@ def test_bare_numbers_are_taken_in_the_documented_unit():
         (True, LENGTH, "boolean"),
         ("-300 degC", TEMPERATURE, "at least"),
         ("3 parsec", LENGTH, "at most"),
+        # VA, var and W share a dimension but are different quantities (IEC 60050-131, from memory): never silently W
+        ("10 kVA", POWER, "apparent power: this field takes active power (W)"),
+        ("10 kvar", POWER, "reactive power: this field takes active power (W)"),
+        ("10 kW", REACTIVE_POWER, "active power: this field takes reactive power (var)"),
+        ("10 kVA", REACTIVE_POWER, "apparent power: this field takes reactive power (var)"),
     ],
 )
 def test_bad_quantities_are_refused_with_a_message(value, kind, fragment):
@@ -121,3 +130,50 @@ def test_kcmil_area_is_a_thousand_circular_mils():
 def test_bad_conductor_sizes(text):
     with pytest.raises(QuantityError):
         parse_conductor_size(text)
+
+
+ALL_KINDS = [k for k in vars(units).values() if isinstance(k, QuantityKind)]
+
+
+@pytest.mark.parametrize("kind", ALL_KINDS, ids=lambda k: k.name[:30])
+def test_a_string_without_a_unit_is_refused_for_every_kind(kind):
+    # common practice: "30" could be metres or feet; only a JSON number takes the documented unit (issue 14, item 13)
+    with pytest.raises(QuantityError) as caught:
+        parse_quantity("30", kind)
+    assert "give a unit" in caught.value.message and "or a bare number (meaning" in caught.value.message
+    assert caught.value.message.count(kind.example) == 1
+
+
+def test_the_bare_string_message_names_the_unit_in_words():
+    with pytest.raises(QuantityError) as caught:
+        parse_quantity("30", LENGTH)
+    assert caught.value.message == "'30' has no unit: give a unit, e.g. '30 m', or a bare number (meaning metres)"
+    assert parse_quantity(30, LENGTH) == 30.0  # the bare JSON number is metres, as documented
+
+
+def test_a_conductor_size_without_a_unit_is_refused():
+    with pytest.raises(QuantityError):
+        parse_conductor_size("2.5")  # mm² or m²? say so
+
+
+@pytest.mark.parametrize(
+    ("text", "value", "kind"),
+    [
+        ("10 kVA", 10_000.0, "apparent"),
+        ("1.5 MVA", 1.5e6, "apparent"),
+        ("500 VA", 500.0, "apparent"),
+        ("10 kV*A", 10_000.0, "apparent"),  # volt times ampere is apparent power (IEC 60050-131-11-41, from memory)
+        ("4 kvar", 4000.0, "reactive"),
+        ("4 kVAr", 4000.0, "reactive"),
+        ("10 kW", 10_000.0, "active"),
+        ("2 hp", 2 * 745.6998715822702, "active"),  # 1 hp = 745.699872 W (mechanical horsepower, common practice)
+        (3000, 3000.0, "active"),  # a bare number is in watts
+    ],
+)
+def test_power_keeps_whether_it_is_active_apparent_or_reactive(text, value, kind):
+    power = parse_power(text, AC_POWER)
+    assert power.value == pytest.approx(value, rel=1e-12) and power.kind == kind
+
+
+def test_reactive_power_is_signed():
+    assert parse_quantity("-2 kvar", REACTIVE_POWER) == -2000.0  # negative: leading (capacitive), common practice

@@ -14,6 +14,7 @@ from service.core.cable_impedance import REACTANCE_SOURCE, RESISTANCE_SOURCE, ar
 from service.core.conductors import Conductor
 from service.core.errors import CalcError, calc_error
 from service.core.protection import CircuitBreaker, GGFuse, ResidualCurrentDevice, required_disconnection_time
+from service.core.protection.ratings import nonstandard_rating
 
 from .checks import CHECK_ORDER, THERMAL_CHECKS, Context, evaluate, request_blames
 from .circuit import Electrical
@@ -41,23 +42,74 @@ WAYS_OUT = {
 _fail = calc_error
 
 
-def design_current(spec: SizingInput) -> tuple[float, Step]:
+# IEC 60038:2009, Table 1: the supply voltage stays within ±10 % of nominal at the supply terminals (from memory).
+# A load voltage within this band of U0, or of √3 U0, is read as that voltage; the bands never overlap (√3 > 1.1²).
+VOLTAGE_TOLERANCE = 0.10
+VOLTAGE_TOLERANCE_SOURCE = "IEC 60038:2009, Table 1 (±10 % at the supply terminals, from memory)"
+
+
+def _near(v: float, nominal: float) -> bool:
+    return abs(v / nominal - 1.0) <= VOLTAGE_TOLERANCE + 1e-12
+
+
+def load_voltage(spec: SizingInput) -> tuple[float, str]:
+    """The voltage Ib is computed at: the load's, reconciled with the supply, or refused (422 at /load/voltage).
+
+    Single-phase circuits run line to neutral at U0; a three-phase load's voltage is line-to-line, √3 U0.
+    """
     load, u0 = spec.load, spec.supply.u0_v
-    if (load.design_current_a is None) == (load.power_w is None):
+    three = load.phases != "single"
+    line = math.sqrt(3) * u0
+    expected, name = (line, f"line-to-line √3 U0 = {line:.4g} V") if three else (u0, f"line-to-neutral U0 = {u0:g} V")
+    if load.voltage_v is None:
+        return expected, f"U = {name} (load voltage not given)"
+    v = load.voltage_v
+    if _near(v, expected):
+        return v, f"U = {v:g} V, the load's voltage (given), within 10 % of the supply's {name}"
+    blame = ("load", "voltage")
+    if three and _near(v, u0):
+        raise _fail("contradictory-input",
+                    f"A three-phase load's voltage is its line-to-line voltage, but {v:g} V is this supply's "
+                    f"line-to-neutral voltage U0 = {u0:g} V; between its lines the supply has √3 x U0 = {line:.4g} V.",
+                    f"Give the line-to-line voltage ({line:.4g} V) or leave load.voltage out. A single-phase load "
+                    f"between line and neutral is sized with load.phases single.",
+                    (blame, f"{v:g} V is line-to-neutral (U0); a three-phase load takes line-to-line ({line:.4g} V)"))
+    if not three and _near(v, line):
+        raise _fail("contradictory-input",
+                    f"{v:g} V is this supply's line-to-line voltage (√3 x U0 = {line:.4g} V), but a single-phase "
+                    f"circuit is sized here between line and neutral, at U0 = {u0:g} V.",
+                    "Give a load connected line to neutral (its voltage near U0), or a balanced three-phase load "
+                    "(load.phases three).",
+                    (blame, f"{v:g} V is line-to-line; a single-phase circuit here is line-to-neutral ({u0:g} V)"))
+    raise _fail("contradictory-input",
+                f"The load's {v:g} V fits neither the supply's line-to-neutral voltage U0 = {u0:g} V nor its "
+                f"line-to-line voltage √3 x U0 = {line:.4g} V (within 10 %, {VOLTAGE_TOLERANCE_SOURCE}).",
+                "Check supply.u0 and load.voltage: they must describe the same system.",
+                (blame, f"fits neither U0 = {u0:g} V nor √3 U0 = {line:.4g} V"))
+
+
+def design_current(spec: SizingInput) -> tuple[float, Step]:
+    load = spec.load
+    if sum(x is not None for x in (load.design_current_a, load.power_w, load.apparent_power_va)) != 1:
         raise _fail("invalid-input", "Give either the design current or the power of the load.",
                     "Give load.design_current, or load.power (with power_factor and, if not U0, voltage).",
                     (("load",), "design current or power, exactly one"))
     if load.design_current_a is not None:
         return load.design_current_a, Step("Design current Ib", "given", load.design_current_a, "A")
-    if load.phases == "single":
-        u = load.voltage_v or u0
-        ib = load.power_w / (load.efficiency * u * load.power_factor)
-        formula = f"Ib = P / (η U cos φ) = {load.power_w:g} / ({load.efficiency:g} x {u:g} x {load.power_factor:g})"
-    else:
-        u = load.voltage_v or math.sqrt(3) * u0
-        ib = load.power_w / (load.efficiency * math.sqrt(3) * u * load.power_factor)
-        formula = (f"Ib = P / (η √3 U cos φ) = {load.power_w:g} / ({load.efficiency:g} x √3 x {u:.4g} x "
-                   f"{load.power_factor:g})")
+    u, u_basis = load_voltage(spec)
+    three = load.phases != "single"
+    root, k = ("√3 ", math.sqrt(3)) if three else ("", 1.0)
+    if load.apparent_power_va is not None:  # S is what the load draws: Ib follows from it whatever cos φ is
+        s = load.apparent_power_va
+        ib = s / (k * u)
+        over = f"(√3 U) = {s:g} / (√3 x {u:.4g})" if three else f"U = {s:g} / {u:.4g}"
+        formula = (f"Ib = S / {over}; apparent power S given "
+                   f"(P = S cos φ = {s * load.power_factor:g} W); {u_basis}")
+        return ib, Step("Design current Ib", formula, ib, "A",
+                        "common practice: S = √3 U I three-phase, S = U I single-phase")
+    ib = load.power_w / (load.efficiency * k * u * load.power_factor)
+    formula = (f"Ib = P / (η {root}U cos φ) = {load.power_w:g} / ({load.efficiency:g} x {'√3 x ' if three else ''}"
+               f"{u:.4g} x {load.power_factor:g}); active power P given; {u_basis}")
     return ib, Step("Design current Ib", formula, ib, "A", "P is the output power when an efficiency is given")
 
 
@@ -65,6 +117,12 @@ def _device(spec: SizingInput, regime: Regime, ib: float) -> tuple[Device, Circu
     p = spec.protection
     rating = p.rated_current_a
     chosen = rating is None
+    if not chosen:  # a rating the device's standard does not list is a typing error, not a design
+        problem = nonstandard_rating(p.device_type, rating, *regime.standard_ratings(p.device_type))
+        if problem is not None:
+            raise _fail("non-standard-rating", problem + ".", "Give one of the standard ratings, or leave "
+                        "rated_current out to let the service choose the smallest one at least Ib.",
+                        (("protection", "device", "rated_current"), problem))
     if chosen:
         ratings = regime.device_ratings(p.device_type)
         rating = next((r for r in ratings if r >= ib - 1e-9), None)

@@ -27,11 +27,12 @@ SPACINGS = ("touching", "one_cable_diameter", "0.125_m", "0.25_m", "0.5_m", "1.0
 
 @dataclass(frozen=True, slots=True)
 class LoadSpec:
-    """The design current directly, or a power with its voltage, power factor and phases."""
+    """The design current directly, or a power (active P or apparent S) with its voltage, power factor and phases."""
 
     phases: Phases = "single"
     design_current_a: float | None = None
-    power_w: float | None = None
+    power_w: float | None = None  # active power P (the output power when an efficiency is given)
+    apparent_power_va: float | None = None  # apparent power S drawn: Ib = S / U, or S / (√3 U); efficiency not used
     voltage_v: float | None = None  # line-to-neutral (single-phase) or line-to-line (three-phase); default from U0
     power_factor: float = 1.0
     efficiency: float = 1.0

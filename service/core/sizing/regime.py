@@ -20,6 +20,7 @@ from service.core.cable_impedance import ANNEX_G_REACTANCE_OHM_PER_M, LineImpeda
 from service.core.conductors import Conductor, ConductorLibrary, default_library
 from service.core.errors import calc_error
 from service.core.protection import ProtectionLibrary, default_protection
+from service.core.protection.ratings import standard_ratings
 
 from .model import BURIED_METHODS, CircuitSpec, Factor, LimitsSpec, Step
 from .tables import (
@@ -111,6 +112,7 @@ class Regime(Protocol):
     def tabulated_capacity(self, circuit: CircuitSpec, loaded: int, area_m2: float) -> Capacity | None: ...
     def correction_factors(self, circuit: CircuitSpec) -> tuple[Factor, ...]: ...
     def device_ratings(self, device_type: str) -> tuple[float, ...]: ...
+    def standard_ratings(self, device_type: str) -> tuple[tuple[float, ...], str]: ...
     def conventional_current(self, device_type: str, rated_current_a: float) -> Conventional: ...
     def drop_limit(self, limits: LimitsSpec, length_m: float) -> DropLimit: ...
     def protective_conductor_minimum(self, line: Conductor) -> tuple[Conductor, str]: ...
@@ -328,6 +330,10 @@ class Iec60364Regime:
         if device_type == "gG":
             return tuple(r for r in self.protection.fuse_ratings if r in self.protection.fuse_gates)
         return self.protection.breaker_ratings
+
+    def standard_ratings(self, device_type: str) -> tuple[tuple[float, ...], str]:
+        """Every standard rating of the device type (a given rating must be one), and the table's source."""
+        return standard_ratings(device_type, self.protection)
 
     def conventional_current(self, device_type: str, rated_current_a: float) -> Conventional:
         if device_type != "gG":

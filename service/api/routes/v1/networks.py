@@ -227,6 +227,10 @@ def _notes(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> 
             name=f"Cable run {e.id}: resistance", formula="R = R_t x L" + (" x 2 (go and return)" if e.go_and_return else ""),
             value=use.resistance_ohm, unit="ohm",
         ))
+    for k, formula, value in parsed.load_steps[:STEPS_SHOWN]:
+        unit = "W" if formula.startswith("P") else "1"
+        steps.append(Step(name=f"Load {req.elements[k].id}: rated " + ("active power" if unit == "W" else "power factor"),
+                          formula=formula, value=value, unit=unit, source="common practice: S² = P² + Q², P = S cos φ"))
     for th in sol.thevenin[:STEPS_SHOWN]:
         steps.append(Step(
             name=f"Thevenin impedance between {th.a} and {th.b}",

@@ -112,7 +112,7 @@ _SIZE_EXAMPLES = {
                             soil_thermal_resistivity="1.5 K*m/W"),
         protection=s.ProtectionIn(device=s.DeviceIn(type="C", rated_current="40 A"),
                                   rcd=s.RcdIn(rated_residual_current="100 mA")),
-        supply=s.SupplyIn(earthing="TT", ze="21 ohm", electrode_resistance="60 ohm"),
+        supply=s.SupplyIn(earthing="TT", ze="75 ohm", electrode_resistance="60 ohm"),
         limits=s.LimitsIn(upstream_drop=1.0)),
 }
 _NEC_SIZE_EXAMPLES = {

@@ -16,14 +16,15 @@ from service.api.schemas.v1.common import (
     quantity,
 )
 from service.units import (
+    AC_POWER,
     CURRENT,
+    DEVICE_RATING,
+    ELECTRODE_RESISTANCE,
     ENERGY,
     FREQUENCY,
-    IMPEDANCE,
     INDUCTIVE_REACTANCE,
     LENGTH,
     MASS,
-    POWER,
     RESIDUAL_CURRENT,
     RESISTANCE,
     TEMPERATURE,
@@ -42,7 +43,7 @@ class LoopImpedanceIn(Strict):
 class DeviceIn(Strict):
     type: Annotated[Literal["B", "C", "D", "gG"], Meta(
         description="Circuit-breaker curve per IEC 60898-1 (B, C, D) or a gG fuse-link per IEC 60269-1.")]
-    rated_current: quantity(CURRENT, "16 A", 16)  # type: ignore[valid-type]
+    rated_current: quantity(DEVICE_RATING, "16 A", 16)  # type: ignore[valid-type]
 
 
 class RcdIn(Strict):
@@ -66,7 +67,7 @@ class SupplyIn(Strict):
     earthing: Literal["TN-S", "TN-C-S", "TT"] = "TN-C-S"
     device: DeviceIn | None = None
     rcd: RcdIn | None = None
-    electrode_resistance: quantity(IMPEDANCE, "60 ohm") | None = None  # type: ignore[valid-type]
+    electrode_resistance: quantity(ELECTRODE_RESISTANCE, "60 ohm") | None = None  # type: ignore[valid-type]
     ambient_temperature: quantity(TEMPERATURE, "25 degC", 30) = 30.0  # type: ignore[valid-type]
 
 
@@ -101,9 +102,10 @@ class ApplianceIn(Strict, kw_only=True):
     outlet: Annotated[int, Meta(ge=0, description=(
         "The lead whose outlet it is plugged into, counting from 0 for the lead in the socket. "
         "Leave out for the last lead's outlet."))] | None = None
-    rated_power: quantity(POWER, "2.8 kW", 1500)  # type: ignore[valid-type]
+    rated_power: quantity(AC_POWER, "2.8 kW", "1.2 kVA", 1500)  # type: ignore[valid-type]
     rated_voltage: quantity(VOLTAGE, "230 V") = 230.0  # type: ignore[valid-type]
-    power_factor: Annotated[float, Meta(gt=0, le=1, description="cos φ at rated voltage.")] = 1.0
+    power_factor: Annotated[float, Meta(gt=0, le=1, description=(
+        "cos φ at rated voltage; with an apparent rated_power (VA) the active power is P = S cos φ."))] = 1.0
     leading: bool = False
     model: Annotated[Literal["constant_impedance", "constant_current", "constant_power"], Meta(description=(
         "How the appliance follows its voltage: constant_impedance for heaters, urns and filament lamps; "

@@ -28,14 +28,15 @@ from service.api.schemas.v1.common import (
     quantity,
 )
 from service.units import (
+    AC_POWER,
     ANALYSIS_FREQUENCY,
     CAPACITANCE,
     INDUCTANCE,
     LENGTH,
     PHASE_ANGLE,
-    POWER,
     REACTANCE,
     REACTANCE_PER_LENGTH,
+    REACTIVE_POWER,
     RESISTANCE,
     SERIES_CAPACITANCE,
     SOURCE_CURRENT,
@@ -154,13 +155,20 @@ class CableRunIn(_TwoTerminalIn, tag="cable_run"):
 
 
 class LoadIn(_TwoTerminalIn, tag="load"):
-    """A load rated ``rated_power`` (active) at ``rated_voltage``; ``model`` says how it follows the voltage."""
+    """A load rated ``rated_power`` (active P, or apparent S) at ``rated_voltage``; ``model`` says how it follows the
+    voltage.  Its reactive power comes from ``power_factor``, or is given as ``rated_reactive_power``."""
 
-    rated_power: quantity(POWER, "3 kW", 2000)  # type: ignore[valid-type]
+    rated_power: quantity(AC_POWER, "3 kW", "10 kVA", 2000)  # type: ignore[valid-type]
     rated_voltage: quantity(VOLTAGE, "230 V")  # type: ignore[valid-type]
-    power_factor: Annotated[float, Meta(description="cos φ at rated voltage, in (0, 1]. Ignored at DC.",
-                                        examples=[0.95])] = 1.0
-    leading: Annotated[bool, Meta(description="true for a capacitive (leading) load; lagging (inductive) otherwise.")] = False
+    power_factor: Annotated[float | None, Meta(description=(
+        "cos φ at rated voltage, in (0, 1]; default 1, or from rated_reactive_power. With an active rated_power, "
+        "S = P / cos φ; with an apparent one, P = S cos φ. Ignored at DC."), examples=[0.95])] = None
+    rated_reactive_power: quantity(REACTIVE_POWER, "2 kvar", -500) | None = None  # type: ignore[valid-type]
+    """Q at rated voltage instead of power_factor (positive lagging, negative leading): with an active rated_power
+    S = √(P² + Q²), with an apparent one P = √(S² − Q²).  AC only."""
+    leading: Annotated[bool, Meta(description=(
+        "true for a capacitive (leading) load; lagging (inductive) otherwise. With rated_reactive_power its sign "
+        "says it."))] = False
     model: Annotated[
         Literal["constant_impedance", "constant_current", "constant_power"],
         Meta(description=("How the load follows its terminal voltage V: constant_impedance S = S_rated (V/V_rated)², "

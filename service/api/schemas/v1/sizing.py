@@ -16,13 +16,16 @@ from msgspec import Meta
 from service.api.schemas.v1.common import CalculationNotes, ConductorSizeField, MaterialField, Out, Strict, quantity
 from service.units import (
     CURRENT,
+    DEVICE_RATING,
+    ELECTRODE_RESISTANCE,
     DISCONNECTION_TIME,
     LET_THROUGH_ENERGY,
+    LOAD_VOLTAGE,
     FREQUENCY,
     IMPEDANCE,
     LENGTH,
     LENGTH_OR_ZERO,
-    POWER,
+    AC_POWER,
     RESIDUAL_CURRENT,
     SOIL_THERMAL_RESISTIVITY,
     TEMPERATURE,
@@ -52,10 +55,13 @@ class LoadIn(Strict):
         "Single-phase, or balanced three-phase. IEC 60364: default single. NEC: implied by supply.system (a "
         "contradiction is refused)."))] = None
     design_current: quantity(CURRENT, "26 A", 26) | None = None  # type: ignore[valid-type]
-    power: quantity(POWER, "6 kW", 6000) | None = None  # type: ignore[valid-type]
-    voltage: quantity(VOLTAGE, "230 V", "400 V") | None = None  # type: ignore[valid-type]
-    power_factor: Annotated[Fraction, Meta(description="cos φ of the load, lagging.")] = 1.0
-    efficiency: Annotated[Fraction, Meta(description="When the power given is the output (a motor's shaft power).")] = 1.0
+    power: quantity(AC_POWER, "6 kW", "10 kVA", 6000) | None = None  # type: ignore[valid-type]
+    voltage: quantity(LOAD_VOLTAGE, "230 V", "400 V") | None = None  # type: ignore[valid-type]
+    power_factor: Annotated[Fraction, Meta(description=(
+        "cos φ of the load, lagging. With an active power P (W): Ib = P / (U cos φ), or P / (√3 U cos φ); an apparent "
+        "power S (VA) gives Ib = S / U, or S / (√3 U), whatever cos φ is."))] = 1.0
+    efficiency: Annotated[Fraction, Meta(description=(
+        "When the power given is the output (a motor's shaft power, in W); not with an apparent power."))] = 1.0
     continuous_share: Annotated[Annotated[float, Meta(ge=0.0, le=1.0)] | None, Meta(description=(
         f"{NEC}: the share of the load that is continuous (maximum current for 3 h or more); conductor and device "
         "are sized for 125 % of it plus 100 % of the rest (210.19(A), 215.2). Default 1 (all continuous)."))] = None
@@ -136,7 +142,7 @@ class DeviceIn(Strict):
     type: Annotated[Literal["B", "C", "D", "gG"] | None, Meta(description=(
         f"{IEC}: circuit-breaker type per IEC 60898-1 (B, C, D) or a gG fuse-link per IEC 60269-1. Default B. "
         "NEC: a fuse or inverse-time breaker of a Table 240.6(A) rating, no type."))] = None
-    rated_current: quantity(CURRENT, "32 A", 32) | None = None  # type: ignore[valid-type]
+    rated_current: quantity(DEVICE_RATING, "32 A", 32) | None = None  # type: ignore[valid-type]
     """Leave out to let the service pick the smallest standard rating at least Ib."""
 
 
@@ -167,7 +173,7 @@ class SupplyIn(Strict, kw_only=True):
     ze: quantity(IMPEDANCE, "0.35 ohm", 0.35) | None = None  # type: ignore[valid-type]
     prospective_fault_current: quantity(CURRENT, "6 kA", 6000) | None = None  # type: ignore[valid-type]
     frequency: quantity(FREQUENCY, "50 Hz", 50) | None = None  # type: ignore[valid-type]
-    electrode_resistance: quantity(IMPEDANCE, "60 ohm", 60) | None = None  # type: ignore[valid-type]
+    electrode_resistance: quantity(ELECTRODE_RESISTANCE, "60 ohm", 60) | None = None  # type: ignore[valid-type]
     available_fault_current: quantity(CURRENT, "14 kA", 14000) | None = None  # type: ignore[valid-type]
     """NEC only: the fault current available at the device's line terminals, for 110.9. Left out, the interrupting
     rating is not assessed (the answer says so in its cautions)."""

@@ -38,7 +38,9 @@ SYSTEMS = {
 @dataclass(frozen=True, slots=True)
 class NecLoad:
     design_current_a: float | None = None
-    power_w: float | None = None
+    power_w: float | None = None  # active power P (the output power when an efficiency is given)
+    apparent_power_va: float | None = None  # apparent power S drawn: I = S / V, or S / (√3 V)
+    voltage_v: float | None = None  # the load's voltage as given (checked against the system at the edge), for the steps
     power_factor: float = 1.0
     efficiency: float = 1.0
     continuous_share: float | None = None  # share of the load that is continuous (3 h or more); None: all of it

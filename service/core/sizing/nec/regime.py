@@ -89,18 +89,26 @@ class NecRegime:
     # -- what the request fixes ------------------------------------------------------------------
     def _design_current(self, spec: NecSizingInput, system: System) -> Step:
         load = spec.load
-        if (load.design_current_a is None) == (load.power_w is None):
+        if sum(x is not None for x in (load.design_current_a, load.power_w, load.apparent_power_va)) != 1:
             raise blame("invalid-input", "Give either the design current or the power of the load.",
                         "Give load.design_current, or load.power with its power_factor.", (("load",), "exactly one"))
         if load.design_current_a is not None:
             return Step("Load current", "given", load.design_current_a, "A")
-        if system.phases == "single":
-            ib = load.power_w / (load.efficiency * system.nominal_v * load.power_factor)
-            formula = f"I = P / (η V pf) = {load.power_w:g} / ({load.efficiency:g} x {system.nominal_v:g} x {load.power_factor:g})"
-        else:
-            ib = load.power_w / (load.efficiency * math.sqrt(3) * system.nominal_v * load.power_factor)
-            formula = (f"I = P / (η √3 V pf) = {load.power_w:g} / ({load.efficiency:g} x √3 x {system.nominal_v:g} x "
-                       f"{load.power_factor:g})")
+        v = system.nominal_v
+        three = system.phases != "single"
+        root, k = ("√3 ", math.sqrt(3)) if three else ("", 1.0)
+        basis = (f"V = {v:g} V, the nominal system voltage (220.5(A))"
+                 + ("" if load.voltage_v is None else f"; load voltage given {load.voltage_v:g} V"))
+        if load.apparent_power_va is not None:
+            s = load.apparent_power_va
+            ib = s / (k * v)
+            over = f"(√3 V) = {s:g} / (√3 x {v:g})" if three else f"V = {s:g} / {v:g}"
+            formula = (f"I = S / {over}; apparent power S given "
+                       f"(P = S pf = {s * load.power_factor:g} W); {basis}")
+            return Step("Load current", formula, ib, "A", "common practice: S = √3 V I three-phase, S = V I single-phase")
+        ib = load.power_w / (load.efficiency * k * v * load.power_factor)
+        formula = (f"I = P / (η {root}V pf) = {load.power_w:g} / ({load.efficiency:g} x {'√3 x ' if three else ''}{v:g} x "
+                   f"{load.power_factor:g}); active power P given; {basis}")
         return Step("Load current", formula, ib, "A", "P is the output power when an efficiency is given")
 
     def plan(self, spec: NecSizingInput) -> Plan:
@@ -136,6 +144,12 @@ class NecRegime:
         share = 1.0 if spec.load.continuous_share is None else spec.load.continuous_share
         load = split_load(ib_step.value, share)
         given = spec.rated_current_a
+        if given is not None and not any(math.isclose(given, r, rel_tol=1e-9) for r in self.t.ratings):
+            listed = ", ".join(f"{r:g}" for r in self.t.ratings)
+            raise blame("non-standard-rating", f"{given:g} A is not a standard ampere rating of a fuse or inverse-time "
+                        f"circuit breaker: {self.t.source(RATINGS_TABLE)} lists {listed} A.",
+                        "Give a rating of Table 240.6(A), or leave rated_current out to let the service choose.",
+                        (("protection", "device", "rated_current"), f"{given:g} A is not in Table 240.6(A)"))
         rating = standard_rating(self.t, load.required_a) if given is None else given
         device = Device("overcurrent_device", rating, given is None,
                         f"{rating:g} A fuse or inverse-time circuit breaker", None, None, None)
