@@ -14,6 +14,7 @@ from typing import Annotated, Literal
 from msgspec import Meta
 
 from service.api.schemas.v1.common import CalculationNotes, ConductorSizeField, MaterialField, Out, Strict, quantity
+from service.core.sizing.codes import CHECK_CODES, GOVERNING_CODES
 from service.units import (
     CURRENT,
     DEVICE_RATING,
@@ -220,8 +221,17 @@ class VerifyRequest(SizingRequest, kw_only=True):
     circuit: VerifyCircuitIn
 
 
+CheckCode = Annotated[Literal[CHECK_CODES], Meta(title="CheckCode", description=(  # type: ignore[valid-type]
+    "Stable machine-readable code of a check, the same in every regime where the check exists (e.g. voltage_drop, "
+    "earth_fault_loop, breaking_capacity); an app maps a failure by it, never by parsing a sentence."))]
+GoverningCode = Annotated[Literal[GOVERNING_CODES], Meta(title="GoverningCheckCode", description=(  # type: ignore[valid-type]
+    "The check that decided the size: the check code the next smaller size fails, or smallest_listed_size when even "
+    "the smallest tabulated size passes."))]
+
+
 class CheckOut(Out):
-    name: str
+    name: CheckCode
+    code: CheckCode
     passes: bool
     value: float
     limit: float
@@ -253,7 +263,7 @@ class SizeOut(Out):
     r2_ohm: float | None
     metal_mass_kg: float
     passes: bool
-    failing_checks: list[str]
+    failing_checks: list[CheckCode]
     checks: list[CheckOut]
     r_ohm_per_m: Annotated[float | None, Meta(description=(
         "Line conductor's AC resistance per metre used for the voltage drop, at drop_conductor_temperature_degc "
@@ -326,9 +336,9 @@ class SizingResult(Out):
     disconnection_time_s: float | None
     disconnection_time_source: str | None
     chosen: SizeOut | None
-    governing_check: str | None
+    governing_check: GoverningCode | None
     rejected: list[SizeOut]
-    binding_checks: list[str]
+    binding_checks: list[CheckCode]
     ways_out: list[str]
     raceway: Annotated[RacewayFillOut | None, Meta(description=(
         "NEC with a raceway given: the smallest trade size for the chosen size's conductors and EGC."))]
