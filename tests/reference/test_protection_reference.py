@@ -136,7 +136,7 @@ def test_amendment_scope_of_411_3_2_2():
 )
 def test_gg_fuse_gates(rated_a, imax_5s, imax_0_1s):
     assert operating_current(GGFuse(rated_a), 5.0).current_a == imax_5s
-    assert operating_current(GGFuse(rated_a), 0.4).current_a == imax_0_1s
+    assert operating_current(GGFuse(rated_a), 0.1).current_a == imax_0_1s
 
 
 def test_worked_example_gg_fuse_at_5_s():
@@ -247,7 +247,7 @@ def test_annex_a_constant_follows_from_the_material_parameters():
 def test_every_tabulated_k_agrees_with_the_annex_a_formula():
     lib = default_protection()
     rows = [v for values in lib.k_values.values() for v in values]
-    assert len(rows) == 32
+    assert len(rows) == 44  # Tables 43A, A.54.2, A.54.3, A.54.4 and A.54.5
     for v in rows:
         derived = annex_a_k(v.material, v.initial_temp_c, v.final_temp_c)
         assert abs(derived - v.k) <= 0.5, (v, derived)  # the tables round k to whole numbers

@@ -39,6 +39,7 @@ def _size_out(ev: core.SizeEvaluation) -> s.SizeOut:
         checks=[s.CheckOut(name=c.name, passes=c.passes, value=c.value, limit=c.limit, unit=c.unit,
                            condition=c.condition, source=c.source, detail=c.detail, obligation=c.obligation)
                 for c in ev.checks],
+        not_assessed=[s.NotAssessedOut(name=n.name, reason=n.reason) for n in ev.not_assessed],
     )
 
 
