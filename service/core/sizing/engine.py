@@ -12,7 +12,13 @@ import math
 
 from service.core.conductors import Conductor
 from service.core.errors import CalcError, calc_error
-from service.core.protection import CircuitBreaker, GGFuse, ResidualCurrentDevice, required_disconnection_time
+from service.core.protection import (
+    CircuitBreaker,
+    GGFuse,
+    ResidualCurrentDevice,
+    default_protection,
+    required_disconnection_time,
+)
 
 from .checks import (
     CHECK_ORDER,
@@ -197,7 +203,8 @@ def _assumptions(ctx: Context) -> tuple[str, ...]:
 def _cautions(ctx: Context) -> tuple[str, ...]:
     notes = ["Installation conditions must match the inputs: method, ambient, grouping, thermal insulation and soil "
              "decide the rating, and a run that meets worse conditions anywhere along it must be sized for them."]
-    if any(t.provenance != "published" for t in (ctx.regime.t.tables[i] for i in ctx.regime.table_ids())):
+    used = {**ctx.regime.t.tables, **default_protection().tables}
+    if any(used[i].provenance != "published" for i in _table_ids(ctx)):
         notes.append("Some table values are from memory and not yet compared with the published tables: check the "
                      "result against the standard before relying on it (provenance in notes.sources).")
     if ctx.spec.protection.breaking_capacity_a is None:
@@ -205,6 +212,11 @@ def _cautions(ctx: Context) -> tuple[str, ...]:
     if ctx.rcd is None and ctx.spec.protection.circuit_kind == "socket_outlets":
         notes.append("Socket-outlet circuits generally need additional protection by a 30 mA RCD (IEC 60364-4-41 411.3.3).")
     return tuple(notes)
+
+
+def _table_ids(ctx: Context) -> tuple[str, ...]:
+    """The regime's tables and the protection tables the checks read (each with its provenance in the answer)."""
+    return tuple(dict.fromkeys((*ctx.regime.table_ids(), *default_protection().tables)))
 
 
 def _governing(rejected: list[SizeEvaluation]) -> str | None:
@@ -236,7 +248,7 @@ def _result(ctx: Context, mode: str, verdict: str, chosen: SizeEvaluation | None
         steps=tuple(steps), assumptions=_assumptions(ctx),
         cautions=_cautions(ctx) + tuple(f"Not assessed, so not passed: {n.name}: {n.reason}."
                                         for n in (chosen.not_assessed if chosen is not None else ())),
-        table_ids=ctx.regime.table_ids(), solves=solves,
+        table_ids=_table_ids(ctx), solves=solves,
     )
 
 
