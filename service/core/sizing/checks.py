@@ -308,6 +308,8 @@ def electrical(ctx: Context, line: Conductor, pe: Conductor, run: RunSolution) -
     near_earth = origin_energy(ctx, "protective_conductor_adiabatic", earth_fault=True)
     energies = [far] if isinstance(near_earth, NotAssessed) else [far, near_earth]
     add(_adiabatic(ctx, "protective_conductor_adiabatic", pe.area_m2, role, insulation, energies))
+    if isinstance(near_earth, NotAssessed):  # the far-end fault was checked; the one at the origin was not
+        add(NotAssessed(near_earth.name, f"the earth fault at the origin: {near_earth.reason}"))
     add(protective_conductor_minimum(ctx, pe))
     near_line = origin_energy(ctx, "line_conductor_adiabatic", earth_fault=False)
     add(near_line if isinstance(near_line, NotAssessed) else
