@@ -205,6 +205,9 @@ def test_without_let_through_data_a_fast_fault_is_not_assessed():
     r = verify_conductor(s, 2.5 * MM2)
     assert "line_conductor_adiabatic" not in checks_of(r)
     assert "line_conductor_adiabatic" in not_assessed_of(r)
+    # the protective conductor: its far-end earth fault is still checked, its fault at the origin is not assessed
+    assert checks_of(r)["protective_conductor_adiabatic"].detail.startswith("far end")
+    assert not_assessed_of(r)["protective_conductor_adiabatic"].reason.startswith("origin")
     fuse = dataclasses.replace(s, protection=ProtectionSpec("gG", 16.0))
     assert "line_conductor_adiabatic" in not_assessed_of(verify_conductor(fuse, 2.5 * MM2))
 

@@ -209,13 +209,14 @@ class ClearingTime:
 def _fuse_clearing(device: GGFuse, current_a: float, lib: ProtectionLibrary) -> ClearingTime | None:
     band = _fuse_band(device, lib)
     (t_long, i_long), (t_short, i_short) = band.points[0], band.points[-1]
-    if current_a < i_long:
+    if current_a < i_long * (1 - 1e-12):  # the tolerance absorbs the rounding of an Ia read off the same band
         return None
     if current_a >= i_short:
         t = t_short
     else:
-        upper, lower = next((a, b) for a, b in zip(band.points, band.points[1:]) if a[1] <= current_a <= b[1])
-        t = _log_log(current_a, upper[1], upper[0], lower[1], lower[0])
+        at = max(current_a, i_long)
+        upper, lower = next((a, b) for a, b in zip(band.points, band.points[1:]) if a[1] <= at <= b[1])
+        t = min(_log_log(at, upper[1], upper[0], lower[1], lower[0]), upper[0])
     return ClearingTime(t, f"{current_a:.4g} A operates the fuse-link within {t:.3g} s ({_fuse_basis(band)})")
 
 

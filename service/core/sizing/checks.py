@@ -200,22 +200,31 @@ def origin_energy(ctx: Context, what: str, earth_fault: bool) -> FaultEnergy | N
 
 
 def _adiabatic(ctx: Context, name: str, area_m2: float, role: str, insulation: str,
-               energies: list[FaultEnergy]) -> Check | NotAssessed:
-    """The worst I²t of the faults given, against k² S²."""
+               energies: list[FaultEnergy]) -> list[Check | NotAssessed]:
+    """The worst I²t of the faults given, against k² S².
+
+    A bound I² x t (a fault cleared within 0.1 s) that exceeds k² S² proves nothing: that fault is reported as
+    not assessed, and the check is made on the other faults, if any."""
     c = ctx.spec.circuit
-    worst = max(energies, key=lambda e: e.i2t_a2s)
     with request_blames():
-        result = adiabatic_check(area_m2, worst.i2t_a2s, c.material, insulation, role)
+        results = [(e, adiabatic_check(area_m2, e.i2t_a2s, c.material, insulation, role)) for e in energies]
+    found: list[Check | NotAssessed] = []
+    unsettled = [(e, r) for e, r in results if e.upper_bound_only and not r.complies]
+    for e, r in unsettled:
+        found.append(NotAssessed(name, f"{e.where}: {e.basis}; this upper bound exceeds k² S² = "
+                                 f"{r.permitted_i2t_a2s:.4g} A²s, and only the device's let-through I²t can settle it: "
+                                 "give protection.let_through_energy or protection.device.energy_class"))
+    settled = [(e, r) for e, r in results if (e, r) not in unsettled]
+    if not settled:
+        return found
+    worst, result = max(settled, key=lambda er: er[0].i2t_a2s)
     detail = (f"{worst.where}: {worst.basis}; k = {result.k.k:g} ({result.k.source}); smallest area "
               f"{result.minimum_area_m2 / MM2:.3g} mm²")
-    if worst.upper_bound_only and not result.complies:
-        return NotAssessed(name, f"{detail}; the upper bound I² x t exceeds k² S², and only the device's let-through "
-                           "I²t can settle it: give protection.let_through_energy or protection.device.energy_class")
     if worst.uncleared:
         detail += "; the fault is not cleared within 5 s, beyond the adiabatic formula's range"
-    return _check(name, result.complies and not worst.uncleared, worst.i2t_a2s, result.permitted_i2t_a2s, "A²s",
-                  "I²t <= k² S²", "IEC 60364-5-54:2011, 543.1.2" if role not in ("live",) else "IEC 60364-4-43:2008, 434.5.2",
-                  detail)
+    source = "IEC 60364-4-43:2008, 434.5.2" if role == "live" else "IEC 60364-5-54:2011, 543.1.2"
+    return [_check(name, result.complies and not worst.uncleared, worst.i2t_a2s, result.permitted_i2t_a2s, "A²s",
+                   "I²t <= k² S²", source, detail), *found]
 
 
 def pe_role(ctx: Context) -> tuple[str, str, str]:
@@ -297,23 +306,24 @@ def electrical(ctx: Context, line: Conductor, pe: Conductor, run: RunSolution) -
                          "IEC 60364-4-41:2005, 411.4.4 / 411.5", detail))
     not_assessed: list[NotAssessed] = []
 
-    def add(found: Check | NotAssessed | None) -> None:
-        if isinstance(found, NotAssessed):
-            not_assessed.append(found)
-        elif found is not None:
-            checks.append(found)
+    def add(*found: Check | NotAssessed | None) -> None:
+        for item in found:
+            if isinstance(item, NotAssessed):
+                not_assessed.append(item)
+            elif item is not None:
+                checks.append(item)
 
     role, insulation, _ = pe_role(ctx)
     far = fault_energy(ctx, "far end (earth fault)", fault.fault_current_a)
     near_earth = origin_energy(ctx, "protective_conductor_adiabatic", earth_fault=True)
     energies = [far] if isinstance(near_earth, NotAssessed) else [far, near_earth]
-    add(_adiabatic(ctx, "protective_conductor_adiabatic", pe.area_m2, role, insulation, energies))
+    add(*_adiabatic(ctx, "protective_conductor_adiabatic", pe.area_m2, role, insulation, energies))
     if isinstance(near_earth, NotAssessed):  # the far-end fault was checked; the one at the origin was not
         add(NotAssessed(near_earth.name, f"the earth fault at the origin: {near_earth.reason}"))
     add(protective_conductor_minimum(ctx, pe))
     near_line = origin_energy(ctx, "line_conductor_adiabatic", earth_fault=False)
-    add(near_line if isinstance(near_line, NotAssessed) else
-        _adiabatic(ctx, "line_conductor_adiabatic", line.area_m2, "live", spec.circuit.insulation, [near_line]))
+    add(*([near_line] if isinstance(near_line, NotAssessed) else
+          _adiabatic(ctx, "line_conductor_adiabatic", line.area_m2, "live", spec.circuit.insulation, [near_line])))
     add(breaking_capacity(ctx))
     return tuple(checks), {"drop_pct": drop_pct, "total": total, "fault_current": fault.fault_current_a,
                            "not_assessed": tuple(not_assessed)}
