@@ -219,3 +219,14 @@ def test_a_bound_that_passes_is_a_pass():
     line = checks_of(r)["line_conductor_adiabatic"]
     assert r.chosen.size_label == "2.5 mm²" and line.passes
     assert line.value == pytest.approx((1.1 * 230 / 0.35) ** 2 * 0.1)
+
+
+def test_minimum_mode_raises_a_separate_protective_conductor_to_543_1_3():
+    # IEC 60364-5-54 Table 54.2: S <= 16 mm² -> the PE equals the line (1.5 mm² here, 19.5 A in Table B.52.2 C);
+    # 543.1.3 (from memory):
+    # a separate copper PE without mechanical protection is at least 4 mm², so the PE is raised, not the line.
+    s = spec(load=LoadSpec(design_current_a=16.0), protection=ProtectionSpec("B", 16.0),
+             protective_conductor=ProtectiveConductorSpec("minimum", kind="separate_insulated"))
+    r = size_conductor(s)
+    assert r.chosen.size_label == "1.5 mm²" and r.chosen.pe_size_label == "4 mm²"
+    assert checks_of(r)["protective_conductor_minimum"].passes

@@ -109,7 +109,18 @@ def _pe_rule(spec: SizingInput, regime: Regime):
             raise _fail(exc.code, exc.detail, exc.how_to_fix, (("protective_conductor", "size"), "not a listed size")) from None
         return lambda line: (given, "given in the request")
     if pc.mode == "minimum":
-        return regime.protective_conductor_minimum
+        if (pc.kind or "cable_core") == "cable_core":
+            return regime.protective_conductor_minimum
+        floor_mm2 = default_protection().separate_pe_minimum_mm2[(material, bool(pc.mechanically_protected))]
+
+        def separate(line: Conductor) -> tuple[Conductor, str]:
+            pe, basis = regime.protective_conductor_minimum(line)
+            if pe.area_m2 >= floor_mm2 * MM2 * (1 - 1e-9):
+                return pe, basis
+            return regime.conductor(floor_mm2 * MM2, material), (
+                f"{basis}; raised to {floor_mm2:g} mm², the minimum of a separate protective conductor "
+                "(IEC 60364-5-54 543.1.3)")
+        return separate
     return lambda line: (line, "same size as the line conductors")
 
 
