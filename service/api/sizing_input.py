@@ -110,7 +110,24 @@ def _protection(reader: FieldReader, p: s.ProtectionIn) -> ProtectionSpec:
         circuit_kind=p.circuit_kind or "fixed_equipment",
         let_through_i2t_a2s=_optional(reader, p.let_through_energy, LET_THROUGH_ENERGY, "protection",
                                       "let_through_energy"),
+        breaking_capacity_a=_optional(reader, p.device.breaking_capacity, CURRENT, "protection", "device",
+                                      "breaking_capacity"),
+        energy_class=_energy_class(reader, p.device),
+        fuse_system=_fuse_system(reader, p.device),
     )
+
+
+def _energy_class(reader: FieldReader, device: s.DeviceIn):
+    if device.energy_class is not None and (device.type or "B") not in ("B", "C"):
+        reader.add("energy-limiting classes (EN 60898-1 Annex ZA) are given for type B and C circuit-breakers only",
+                   "protection", "device", "energy_class")
+    return device.energy_class
+
+
+def _fuse_system(reader: FieldReader, device: s.DeviceIn) -> str:
+    if device.fuse_system is not None and device.type != "gG":
+        reader.add("fuse_system applies to gG fuse-links only (device.type gG)", "protection", "device", "fuse_system")
+    return device.fuse_system or "iec60269_1"
 
 
 def _supply(reader: FieldReader, sup: s.SupplyIn) -> SupplySpec:
@@ -140,7 +157,13 @@ def _protective_conductor(reader: FieldReader, pc: s.ProtectiveConductorIn) -> P
         area = size.area_m2
     mode = pc.mode or "same_as_line"
     check_protective_mode(reader, mode, pc)
-    return ProtectiveConductorSpec(mode=mode, area_m2=area)
+    if mode == "given" and pc.kind is None:
+        reader.add("mode 'given' needs the kind of protective conductor (cable_core, separate_insulated, "
+                   "bare_on_cable_covering or bare): it sets k and the 543.1.3 minimum", "protective_conductor", "kind")
+    if pc.mechanically_protected is not None and (pc.kind or "cable_core") == "cable_core":
+        reader.add("mechanical protection applies to a separate protective conductor (543.1.3), not a core of the cable",
+                   "protective_conductor", "mechanically_protected")
+    return ProtectiveConductorSpec(mode=mode, area_m2=area, kind=pc.kind, mechanically_protected=pc.mechanically_protected)
 
 
 def check_protective_mode(reader: FieldReader, mode: str, pc: s.ProtectiveConductorIn) -> None:
@@ -156,7 +179,10 @@ IEC_ONLY = (("circuit", "method"), ("circuit", "insulation"), ("circuit", "cable
             ("circuit", "ambient_medium"), ("circuit", "grouping"), ("circuit", "thermal_insulation_length"),
             ("circuit", "soil_thermal_resistivity"), ("protection", "device", "type"), ("protection", "rcd"),
             ("protection", "required_disconnection_time"), ("protection", "circuit_kind"),
-            ("protection", "let_through_energy"), ("supply", "u0"), ("supply", "earthing"), ("supply", "ze"),
+            ("protection", "let_through_energy"), ("protection", "device", "breaking_capacity"),
+            ("protection", "device", "energy_class"), ("protection", "device", "fuse_system"),
+            ("protective_conductor", "kind"), ("protective_conductor", "mechanically_protected"), ("supply", "u0"),
+            ("supply", "earthing"), ("supply", "ze"),
             ("supply", "prospective_fault_current"), ("supply", "electrode_resistance"), ("limits", "use"),
             ("limits", "supply_kind"))
 NEC_ONLY = (("load", "continuous_share"), ("circuit", "conductor_type"), ("circuit", "insulation_rating"),

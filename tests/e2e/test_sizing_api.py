@@ -283,3 +283,42 @@ def test_a_length_string_without_a_unit_is_a_422_saying_which_unit_a_number_mean
     assert pointers(body) == {"/circuit/length"}
     assert "give a unit, e.g. '30 m', or a bare number (meaning metres)" in str(body["errors"])
     ok(client.post(SIZE, json=request(circuit={"length": 30})))  # the JSON number is metres, as documented
+
+
+def test_protection_inputs_of_issue_14_reach_the_checks(client):
+    # IEC 60364-4-43:2008, 434.5.1: a 10 kA device against 8 kA prospective; EN 60898-1 Annex ZA (from memory):
+    # class 3, type B 16 A, at 10 kA column for 8 kA: 70 000 A²s <= (115 x 4)² = 211 600 A²s (Table 43A, k = 115).
+    body = ok(client.post(VERIFY, json=request(
+        circuit={"size": "4 mm2"}, load={"design_current": "10 A"},
+        protection={"device": {"type": "B", "rated_current": "16 A", "breaking_capacity": "10 kA", "energy_class": 3}},
+        supply={"earthing": "TN-S", "prospective_fault_current": "8 kA"},
+        protective_conductor={"mode": "given", "size": "2.5 mm2", "kind": "separate_insulated",
+                              "mechanically_protected": True})))
+    checks = {c["name"]: c for c in body["chosen"]["checks"]}
+    assert checks["breaking_capacity"]["passes"] and checks["breaking_capacity"]["limit"] == 10000.0
+    assert checks["line_conductor_adiabatic"]["value"] == 70000.0
+    assert checks["protective_conductor_minimum"]["passes"]  # 543.1.3: 2.5 mm² copper with mechanical protection
+    assert body["chosen"]["not_assessed"] == []
+
+
+def test_not_assessed_checks_are_listed_not_passed(client):
+    # A TT supply without a prospective fault current: breaking capacity cannot be assessed (Ze is the earth path)
+    body = ok(client.post(VERIFY, json=request(
+        circuit={"size": "4 mm2"}, protection={"rcd": {"rated_residual_current": "30 mA"}},
+        supply={"earthing": "TT", "ze": "20 ohm", "electrode_resistance": "10 ohm"})))
+    names = {n["name"] for n in body["chosen"]["not_assessed"]}
+    assert "breaking_capacity" in names
+    assert "breaking_capacity" not in {c["name"] for c in body["chosen"]["checks"]}
+
+
+def test_given_protective_conductor_needs_its_kind(client):
+    body = problem(client.post(VERIFY, json=request(
+        circuit={"size": "4 mm2"}, protective_conductor={"mode": "given", "size": "2.5 mm2"})), 422)
+    assert "/protective_conductor/kind" in pointers(body)
+
+
+def test_issue_14_protection_fields_are_refused_where_they_do_not_apply(client):
+    body = problem(client.post(VERIFY, json=request(
+        circuit={"size": "4 mm2"}, protection={"device": {"type": "B", "fuse_system": "bs88_2"}},
+        protective_conductor={"mechanically_protected": True})), 422)
+    assert {"/protection/device/fuse_system", "/protective_conductor/mechanically_protected"} <= pointers(body)

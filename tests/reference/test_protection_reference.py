@@ -19,6 +19,7 @@ from service.core.protection import (
     ResidualCurrentDevice,
     default_protection,
     earth_fault_check,
+    energy_class_let_through,
     k_factor,
     max_fault_duration_s,
     adiabatic_minimum_csa,
@@ -136,7 +137,7 @@ def test_amendment_scope_of_411_3_2_2():
 )
 def test_gg_fuse_gates(rated_a, imax_5s, imax_0_1s):
     assert operating_current(GGFuse(rated_a), 5.0).current_a == imax_5s
-    assert operating_current(GGFuse(rated_a), 0.4).current_a == imax_0_1s
+    assert operating_current(GGFuse(rated_a), 0.1).current_a == imax_0_1s
 
 
 def test_worked_example_gg_fuse_at_5_s():
@@ -225,6 +226,14 @@ def test_k_for_live_conductors(material, insulation, area_mm2, k):
         ("pe_in_cable", "copper", "xlpe_epr_90", 2.5, 143),
         # IEC 60364-5-54:2002, Table A.54.4, aluminium: from memory
         ("pe_in_cable", "aluminium", "xlpe_epr_90", 25, 94),
+        # IEC 60364-5-54:2002, Table A.54.3 (bare, touching a cable covering, initial 30 °C): from memory
+        ("pe_bare_on_covering", "copper", "pvc_covering", 16, 159),
+        ("pe_bare_on_covering", "copper", "polyethylene_covering", 16, 138),
+        ("pe_bare_on_covering", "aluminium", "csp_covering", 16, 110),
+        # IEC 60364-5-54:2002, Table A.54.5 (bare, no risk of damage to neighbouring material): from memory
+        ("pe_bare", "copper", "visible_restricted_area", 16, 228),
+        ("pe_bare", "copper", "normal_conditions", 16, 159),
+        ("pe_bare", "aluminium", "fire_risk", 16, 91),
     ],
 )
 def test_k_for_protective_conductors(role, material, insulation, area_mm2, k):
@@ -250,7 +259,7 @@ def test_annex_a_constant_follows_from_the_material_parameters():
 def test_every_tabulated_k_agrees_with_the_annex_a_formula():
     lib = default_protection()
     rows = [v for values in lib.k_values.values() for v in values]
-    assert len(rows) == 32
+    assert len(rows) == 44  # Tables 43A, A.54.2, A.54.3, A.54.4 and A.54.5
     for v in rows:
         derived = annex_a_k(v.material, v.initial_temp_c, v.final_temp_c)
         assert abs(derived - v.k) <= 0.5, (v, derived)  # the tables round k to whole numbers
@@ -270,3 +279,43 @@ def test_worked_adiabatic_examples():
     assert result.minimum_area_m2 / MM2 == pytest.approx(5.4996, abs=1e-4)
     # IEC 60364-4-43 434.5.2: 2.5 mm2 copper PVC at 1 kA: t = (115 x 2.5 / 1000)^2 = 0.2875^2 = 0.08266 s
     assert max_fault_duration_s(2.5 * MM2, 115, 1000.0) == pytest.approx(0.08266, abs=1e-5)
+
+
+@pytest.mark.parametrize(("rated_a", "max_zs_ohm"), [
+    # BS 7671:2008 (2011) Table 41.2, fuses to BS 88-2 systems E and G, 0.4 s at U0 = 230 V, as reproduced in
+    # NICEIC Connections, Winter 2011-12, Table 2: the operating current within 0.4 s is 230 V / Zs.
+    (16, 2.56),
+    (20, 1.77),
+    (25, 1.35),
+    (32, 1.04),
+])
+def test_bs88_2_operating_currents_at_0_4_s(rated_a, max_zs_ohm):
+    assert operating_current(GGFuse(rated_a, "bs88_2"), 0.4).current_a == pytest.approx(230.0 / max_zs_ohm, rel=1e-9)
+
+
+@pytest.mark.parametrize(("curve", "rated_a", "energy_class", "prospective_a", "i2t"), [
+    # EN 60898-1 Annex ZA, permissible let-through I²t by energy-limiting class: from memory
+    ("B", 16, 3, 6000, 35000),
+    ("B", 16, 3, 10000, 70000),
+    ("B", 32, 3, 6000, 45000),
+    ("C", 16, 3, 6000, 42000),
+    ("B", 10, 2, 3000, 31000),
+])
+def test_energy_class_let_through(curve, rated_a, energy_class, prospective_a, i2t):
+    found = energy_class_let_through(CircuitBreaker(curve, rated_a), energy_class, prospective_a)
+    assert found is not None and found[0] == i2t
+
+
+def test_energy_class_sets_no_limit_outside_the_annex():
+    # EN 60898-1 Annex ZA covers types B and C up to 32 A and prospective currents up to 10 kA; class 1 has no limit
+    assert energy_class_let_through(CircuitBreaker("D", 16), 3, 6000) is None
+    assert energy_class_let_through(CircuitBreaker("B", 40), 3, 6000) is None
+    assert energy_class_let_through(CircuitBreaker("B", 16), 1, 6000) is None
+    assert energy_class_let_through(CircuitBreaker("B", 16), 3, 15000) is None
+
+
+def test_separate_protective_conductor_minimum_areas():
+    # IEC 60364-5-54:2011, 543.1.3 (from memory): copper 2.5 mm² protected, 4 mm² unprotected; aluminium 16 mm²
+    minimum = default_protection().separate_pe_minimum_mm2
+    assert minimum == {("copper", True): 2.5, ("copper", False): 4.0, ("aluminium", True): 16.0,
+                       ("aluminium", False): 16.0}

@@ -195,7 +195,9 @@ def test_let_through_energy_is_checked_against_the_line_conductor():
 
 
 def test_checks_are_reported_in_pipeline_order():
-    r = verify_conductor(spec(protection=ProtectionSpec("B", 20.0, let_through_i2t_a2s=1e4)), 4 * MM2)
+    separate = ProtectiveConductorSpec("given", 4 * MM2, kind="separate_insulated")
+    r = verify_conductor(spec(protection=ProtectionSpec("B", 20.0, let_through_i2t_a2s=1e4), protective_conductor=separate),
+                         4 * MM2)
     assert [c.name for c in r.chosen.checks] == list(CHECK_ORDER)
 
 

@@ -18,10 +18,13 @@ from .adiabatic import (
 )
 from .devices import (
     CircuitBreaker,
+    ClearingTime,
     Device,
     GGFuse,
     OperatingCurrent,
     ResidualCurrentDevice,
+    energy_class_let_through,
+    guaranteed_clearing,
     is_preferred_breaker_rating,
     operating_current,
 )
@@ -34,6 +37,7 @@ __all__ = [
     "AdiabaticCheck",
     "AdiabaticMinimum",
     "CircuitBreaker",
+    "ClearingTime",
     "Device",
     "DisconnectionTime",
     "EarthFaultCheck",
@@ -48,6 +52,8 @@ __all__ = [
     "adiabatic_minimum_csa",
     "default_protection",
     "earth_fault_check",
+    "energy_class_let_through",
+    "guaranteed_clearing",
     "is_preferred_breaker_rating",
     "k_factor",
     "max_fault_duration_s",

@@ -11,14 +11,16 @@ Three kinds, each a frozen record the caller builds:
   guaranteed by the breaker standard.
 * GGFuse (IEC 60269-1 gG).  The pre-arcing characteristic of every gG
   fuse-link must pass between the gates, so at Imax(5 s) it melts within 5 s
-  and at Imax(0.1 s) within 0.1 s.  Pre-arcing time falls as current rises,
-  hence for t >= 5 s Ia = Imax(5 s) and for 0.1 s <= t < 5 s Ia = Imax(0.1 s)
-  guarantee operation within t.  For a time between the gates (0.4 s, say) the
-  true current is lower than Imax(0.1 s): the figure over-demands, which is
-  safe but can fail a circuit that a full time-current curve (the
-  manufacturer's, or a standardised fuse system's maximum pre-arcing curve)
-  would pass.  IEC 60269-1 treats pre-arcing and operating time as the same
-  above 0.1 s (arcing time negligible there); below 0.1 s nothing is held.
+  and at Imax(0.1 s) within 0.1 s.  Between the gates the maximum operating
+  characteristic is taken as a straight line in log-log through the gates and
+  any published points of the fuse system (BS 88-2 systems E and G: the 0.4 s
+  currents of BS 7671 Table 41.2).  Published gG characteristics are convex in
+  log-log (the pre-arcing I²t tends to a constant at high currents, the curve
+  rises steeply towards the conventional fusing current), so a chord between
+  two points of the maximum characteristic lies on its slow side: the
+  interpolated Ia and clearing times are conservative (common practice).
+  IEC 60269-1 treats pre-arcing and operating time as the same above 0.1 s
+  (arcing time negligible there); below 0.1 s nothing is held.
 * ResidualCurrentDevice (IEC 61008-1 / 61009-1, general or S type).  Ia is
   the smallest tabulated multiple of IΔn whose maximum break time is within the
   required time (general type: 5 IΔn within 40 ms).  IEC 61008-1 lets a general
@@ -35,7 +37,15 @@ from typing import Literal
 from service.core.errors import CalcError
 
 from .checks import fail, require_positive
-from .library import GATES_TABLE, RCD_TABLE, TRIP_TABLE, ProtectionLibrary, default_protection
+from .library import (
+    ENERGY_CLASS_TABLE,
+    GATES_TABLE,
+    RCD_TABLE,
+    TRIP_TABLE,
+    FuseBand,
+    ProtectionLibrary,
+    default_protection,
+)
 
 IEC60898_MAX_RATED_CURRENT_A = 125.0  # IEC 60898-1 scope: rated current not exceeding 125 A
 BREAKER_INSTANTANEOUS_TIME_S = 0.1  # IEC 60898-1 Table 7 test e: tripping in less than 0.1 s
@@ -75,13 +85,15 @@ class CircuitBreaker:
 @dataclass(frozen=True, slots=True)
 class GGFuse:
     rated_current_a: float
+    system: str = "iec60269_1"  # "bs88_2": BS 88-2 systems E and G, whose published 0.4 s points refine the band
 
     def __post_init__(self) -> None:
         require_positive(self.rated_current_a, ("device", "rated_current"), "the fuse-link's rated current")
 
     @property
     def label(self) -> str:
-        return f"{self.rated_current_a:g} A gG fuse-link (IEC 60269-1)"
+        std = "BS 88-2" if self.system == "bs88_2" else "IEC 60269-1"
+        return f"{self.rated_current_a:g} A gG fuse-link ({std})"
 
 
 @dataclass(frozen=True, slots=True)
@@ -139,26 +151,110 @@ def _breaker_current(device: CircuitBreaker, required_time_s: float, lib: Protec
     )
 
 
-def _fuse_current(device: GGFuse, required_time_s: float, lib: ProtectionLibrary) -> OperatingCurrent:
-    gates = next((g for r, g in lib.fuse_gates.items() if math.isclose(r, device.rated_current_a)), None)
-    if gates is None:
+def _fuse_band(device: GGFuse, lib: ProtectionLibrary) -> FuseBand:
+    bands = lib.fuse_bands.get(device.system)
+    if bands is None:
+        raise fail("unknown-fuse-system", ("device", "fuse_system"),
+            f"No time-current band is held for gG fuse system {device.system!r}.",
+            f"Choose one of {', '.join(sorted(lib.fuse_bands))}.", "not a known fuse system")
+    band = next((b for r, b in bands.items() if math.isclose(r, device.rated_current_a)), None)
+    if band is None:
         raise fail("unknown-rating", ("device", "rated_current"),
             f"No gG gates are held for a {device.rated_current_a:g} A fuse-link.",
-            "Choose a rating from the gates table: " + ", ".join(f"{r:g}" for r in lib.fuse_gates) + " A.",
+            "Choose a rating from the gates table: " + ", ".join(f"{r:g}" for r in bands) + " A.",
             "not a rating in IEC 60269-1's gates table")
-    if required_time_s >= FUSE_LONG_GATE_S:
-        ia, within, gate = gates.imax_5s_a, FUSE_LONG_GATE_S, "Imax(5 s)"
-    elif required_time_s >= FUSE_SHORT_GATE_S:
-        ia, within, gate = gates.imax_0_1s_a, FUSE_SHORT_GATE_S, "Imax(0.1 s)"
-    else:
+    return band
+
+
+def _log_log(x: float, x1: float, y1: float, x2: float, y2: float) -> float:
+    """y at x on the straight line through (x1, y1) and (x2, y2) in log-log (the points themselves exactly)."""
+    if x in (x1, x2):
+        return y1 if x == x1 else y2
+    share = (math.log(x) - math.log(x1)) / (math.log(x2) - math.log(x1))
+    return math.exp(math.log(y1) + share * (math.log(y2) - math.log(y1)))
+
+
+def _fuse_basis(band: FuseBand) -> str:
+    points = ", ".join(f"{i:.4g} A at {t:g} s" for t, i in band.points)
+    return f"maximum operating characteristic through {points}, straight in log-log between points"
+
+
+def _fuse_current(device: GGFuse, required_time_s: float, lib: ProtectionLibrary) -> OperatingCurrent:
+    band = _fuse_band(device, lib)
+    (t_long, i_long), (t_short, i_short) = band.points[0], band.points[-1]
+    if required_time_s < t_short:
         raise _too_fast(device, required_time_s, FUSE_SHORT_GATE_S, "IEC 60269-1's gates")
+    if required_time_s >= t_long:
+        ia, within = i_long, t_long
+    else:
+        upper, lower = next((a, b) for a, b in zip(band.points, band.points[1:]) if a[0] >= required_time_s >= b[0])
+        ia, within = _log_log(required_time_s, upper[0], upper[1], lower[0], lower[1]), required_time_s
     return OperatingCurrent(
         current_a=ia,
         within_s=within,
-        basis=f"gate {gate} = {ia:g} A: pre-arcing within {within:g} s, hence operation within {required_time_s:g} s",
-        source=lib.source(GATES_TABLE),
+        basis=f"Ia = {ia:.4g} A for operation within {within:g} s ({_fuse_basis(band)})",
+        source="; ".join(band.sources),
         table_id=GATES_TABLE,
     )
+
+
+@dataclass(frozen=True, slots=True)
+class ClearingTime:
+    """The longest time a device may take to clear a given current, and why."""
+
+    time_s: float
+    basis: str
+
+
+def _fuse_clearing(device: GGFuse, current_a: float, lib: ProtectionLibrary) -> ClearingTime | None:
+    band = _fuse_band(device, lib)
+    (t_long, i_long), (t_short, i_short) = band.points[0], band.points[-1]
+    if current_a < i_long * (1 - 1e-12):  # the tolerance absorbs the rounding of an Ia read off the same band
+        return None
+    if current_a >= i_short:
+        t = t_short
+    else:
+        at = max(current_a, i_long)
+        upper, lower = next((a, b) for a, b in zip(band.points, band.points[1:]) if a[1] <= at <= b[1])
+        t = min(_log_log(at, upper[1], upper[0], lower[1], lower[0]), upper[0])
+    return ClearingTime(t, f"{current_a:.4g} A operates the fuse-link within {t:.3g} s ({_fuse_basis(band)})")
+
+
+def guaranteed_clearing(device: Device, current_a: float, library: ProtectionLibrary | None = None) -> ClearingTime | None:
+    """The time within which ``device`` is guaranteed to clear ``current_a``; None if it is not guaranteed in 5 s.
+
+    Breaker: within 0.1 s at or above the upper limit of its instantaneous range, otherwise nothing guaranteed
+    (the thermal release is not tabulated).  gG fuse: the time on its maximum operating characteristic
+    (log-log between points), 0.1 s at or above Imax(0.1 s).  RCD: the shortest break time whose test current
+    the fault current reaches (an RCD sees only a residual current: earth faults).
+    """
+    lib = library or default_protection()
+    current = require_positive(current_a, ("current",), "the fault current")
+    if isinstance(device, GGFuse):
+        return _fuse_clearing(device, current, lib)
+    times = (BREAKER_INSTANTANEOUS_TIME_S,) if isinstance(device, CircuitBreaker) else tuple(
+        sorted(r.max_break_time_s for r in lib.rcd_break_times.get(device.rcd_type, ())))
+    for t in times:
+        op = operating_current(device, t, lib)
+        if current >= op.current_a:
+            return ClearingTime(op.within_s, op.basis)
+    return None
+
+
+def energy_class_let_through(device: CircuitBreaker, energy_class: int, prospective_current_a: float,
+                             library: ProtectionLibrary | None = None) -> tuple[float, str] | None:
+    """EN 60898-1 Annex ZA: the largest let-through I²t of the class at the next tabulated prospective current
+    at or above ``prospective_current_a`` (let-through energy rises with the prospective current, common
+    practice).  None where the annex sets no limit (class 1, type D, above 32 A, above 10 kA)."""
+    lib = library or default_protection()
+    rows = [r for r in lib.energy_limits if r.curve == device.curve and r.energy_class == energy_class
+            and r.rated_above_a < device.rated_current_a <= r.rated_up_to_a
+            and r.prospective_current_a >= prospective_current_a]
+    if not rows:
+        return None
+    row = min(rows, key=lambda r: r.prospective_current_a)
+    return row.max_i2t_a2s, (f"energy-limiting class {energy_class}: at most {row.max_i2t_a2s:g} A²s at "
+                             f"{row.prospective_current_a:g} A prospective ({lib.source(ENERGY_CLASS_TABLE)})")
 
 
 def _rcd_current(device: ResidualCurrentDevice, required_time_s: float, lib: ProtectionLibrary) -> OperatingCurrent:

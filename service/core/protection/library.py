@@ -8,6 +8,7 @@ file stops the service at start-up (as the conductor library does).
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from functools import lru_cache
 
@@ -23,9 +24,18 @@ RCD_TABLE = "iec61008-1-break-times"
 K_LIVE_TABLE = "iec60364-4-43-table43a"
 K_PE_SEPARATE_TABLE = "iec60364-5-54-tableA54-2"
 K_PE_IN_CABLE_TABLE = "iec60364-5-54-tableA54-4"
+K_PE_BARE_ON_COVERING_TABLE = "iec60364-5-54-tableA54-3"
+K_PE_BARE_TABLE = "iec60364-5-54-tableA54-5"
+BS88_POINTS_TABLE = "bs7671-table41-2-bs88-2-0-4s"
+ENERGY_CLASS_TABLE = "en60898-1-annex-za-energy-classes"
+SEPARATE_PE_MINIMUM_TABLE = "iec60364-5-54-543-1-3"
+BREAKING_DEFAULTS_TABLE = "breaking-capacity-defaults"
 
 # Conductor role -> the table holding its k values.
-K_TABLES = {"live": K_LIVE_TABLE, "pe_separate": K_PE_SEPARATE_TABLE, "pe_in_cable": K_PE_IN_CABLE_TABLE}
+K_TABLES = {"live": K_LIVE_TABLE, "pe_separate": K_PE_SEPARATE_TABLE, "pe_in_cable": K_PE_IN_CABLE_TABLE,
+            "pe_bare_on_covering": K_PE_BARE_ON_COVERING_TABLE, "pe_bare": K_PE_BARE_TABLE}
+# gG fuse systems whose band between the IEC 60269-1 gates is refined by published points.
+FUSE_SYSTEMS = ("iec60269_1", "bs88_2")
 CSA_BANDS = ("all", "up_to_300", "over_300")
 
 
@@ -47,6 +57,31 @@ class FuseGates:
     imax_5s_a: float
     imin_0_1s_a: float
     imax_0_1s_a: float
+
+
+@dataclass(frozen=True, slots=True)
+class FuseBand:
+    """Points (time s, current A) of a gG fuse-link's maximum operating characteristic, longest time first.
+
+    Always the IEC 60269-1 gates Imax(5 s) and Imax(0.1 s); for a fuse system with published points, those
+    in between.  Between points the characteristic is taken as a straight line in log-log.
+    """
+
+    rated_current_a: float
+    points: tuple[tuple[float, float], ...]
+    sources: tuple[str, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class EnergyLimit:
+    """EN 60898-1 Annex ZA: the largest let-through I²t of a class at a prospective current."""
+
+    curve: str
+    rated_above_a: float
+    rated_up_to_a: float
+    energy_class: int
+    prospective_current_a: float
+    max_i2t_a2s: float
 
 
 @dataclass(frozen=True, slots=True)
@@ -127,6 +162,52 @@ def _gates(table: DataTable) -> dict[float, FuseGates]:
     return {g.rated_current_a: g for g in gates}
 
 
+def _chord_current(upper: tuple[float, float], lower: tuple[float, float], time_s: float) -> float:
+    """Current of the log-log straight line through two (time, current) points, at ``time_s``."""
+    (t1, i1), (t2, i2) = upper, lower
+    share = (math.log(time_s) - math.log(t1)) / (math.log(t2) - math.log(t1))
+    return math.exp(math.log(i1) + share * (math.log(i2) - math.log(i1)))
+
+
+def _fuse_bands(gates: dict[float, FuseGates], points: DataTable, gates_source: str,
+                points_source: str) -> dict[str, dict[float, FuseBand]]:
+    """The gates alone for any gG fuse-link; the gates with the published 0.4 s points for BS 88-2.
+
+    A published point must lie between the gates and not right of their log-log chord: published maximum
+    characteristics are convex in log-log (common practice), so a point right of the chord is a typing error.
+    """
+    generic = {r: FuseBand(r, ((5.0, g.imax_5s_a), (0.1, g.imax_0_1s_a)), (gates_source,)) for r, g in gates.items()}
+    refined = dict(generic)
+    for rec in points.records():
+        rating, t = float(rec["rated_current_a"]), float(rec["time_s"])
+        current = float(rec["u0_v"]) / float(rec["max_zs_ohm"])
+        g = gates.get(rating)
+        if g is None or not 0.1 < t < 5.0:
+            _fail(points.table_id, f"{rating:g} A: a point needs gates held and a time between 0.1 s and 5 s")
+        chord = _chord_current((5.0, g.imax_5s_a), (0.1, g.imax_0_1s_a), t)
+        if not g.imax_5s_a < current <= chord * (1 + 1e-9):
+            _fail(points.table_id, f"{rating:g} A: {current:.4g} A at {t:g} s lies outside the gates' band")
+        pts = sorted({*refined[rating].points, (t, current)}, reverse=True)
+        refined[rating] = FuseBand(rating, tuple(pts), (gates_source, points_source))
+    return {"iec60269_1": generic, "bs88_2": refined}
+
+
+def _energy_limits(table: DataTable) -> tuple[EnergyLimit, ...]:
+    limits = tuple(EnergyLimit(r["curve"], float(r["rated_above_a"]), float(r["rated_up_to_a"]), int(r["energy_class"]),
+                               float(r["prospective_current_a"]), float(r["max_i2t_a2s"])) for r in table.records())
+    groups: dict[tuple, list[EnergyLimit]] = {}
+    for lim in limits:
+        groups.setdefault((lim.curve, lim.rated_above_a, lim.rated_up_to_a, lim.energy_class), []).append(lim)
+    for key, rows in groups.items():
+        if not (_strictly_rising([r.prospective_current_a for r in rows]) and _strictly_rising([r.max_i2t_a2s for r in rows])):
+            _fail(table.table_id, f"{key}: prospective currents and I²t must rise together")
+    for (curve, above, up_to, cls), rows in groups.items():
+        better = groups.get((curve, above, up_to, cls + 1))
+        if better and any(b.max_i2t_a2s >= r.max_i2t_a2s for r, b in zip(rows, better)):
+            _fail(table.table_id, f"type {curve}: class {cls + 1} must let through less than class {cls}")
+    return limits
+
+
 def _disconnection_bands(table: DataTable) -> dict[str, tuple[DisconnectionBand, ...]]:
     by_earthing: dict[str, list[DisconnectionBand]] = {}
     for r in table.records():
@@ -199,7 +280,8 @@ class ProtectionLibrary:
 
     def __init__(self, tables: dict[str, DataTable]) -> None:
         self.tables = {t: tables[t] for t in (TRIP_TABLE, BREAKER_RATINGS_TABLE, GATES_TABLE, FUSE_RATINGS_TABLE,
-                                             DISCONNECTION_TABLE, RCD_TABLE, *K_TABLES.values())}
+                                             DISCONNECTION_TABLE, RCD_TABLE, *K_TABLES.values(), BS88_POINTS_TABLE,
+                                             ENERGY_CLASS_TABLE, SEPARATE_PE_MINIMUM_TABLE, BREAKING_DEFAULTS_TABLE)}
         self.trip_bands = _trip_bands(tables[TRIP_TABLE])
         self.breaker_ratings = _ratings(tables[BREAKER_RATINGS_TABLE])
         self.fuse_gates = _gates(tables[GATES_TABLE])
@@ -209,6 +291,15 @@ class ProtectionLibrary:
         self.disconnection = _disconnection_bands(tables[DISCONNECTION_TABLE])
         self.rcd_break_times = _rcd_break_times(tables[RCD_TABLE])
         self.k_values = {role: _k_values(tables[table_id]) for role, table_id in K_TABLES.items()}
+        self.fuse_bands = _fuse_bands(self.fuse_gates, tables[BS88_POINTS_TABLE], self.source(GATES_TABLE),
+                                      self.source(BS88_POINTS_TABLE))
+        self.energy_limits = _energy_limits(tables[ENERGY_CLASS_TABLE])
+        self.separate_pe_minimum_mm2 = {(r["material"], bool(r["mechanically_protected"])): float(r["minimum_mm2"])
+                                        for r in tables[SEPARATE_PE_MINIMUM_TABLE].records()}
+        self.breaking_defaults_a = {r["device"]: float(r["breaking_capacity_a"])
+                                    for r in tables[BREAKING_DEFAULTS_TABLE].records()}
+        if not all(_positive(v) for v in (*self.separate_pe_minimum_mm2.values(), *self.breaking_defaults_a.values())):
+            _fail(SEPARATE_PE_MINIMUM_TABLE, "minimum areas and default breaking capacities must be positive")
 
     def source(self, table_id: str) -> str:
         """'IEC 60364-4-41 5.0 (2005) ..., Table 41.1 ... [provenance]' for a result's source field."""

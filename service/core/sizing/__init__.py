@@ -20,6 +20,7 @@ from .model import (
     Factor,
     LimitsSpec,
     LoadSpec,
+    NotAssessed,
     ProtectionSpec,
     ProtectiveConductorSpec,
     SizeEvaluation,
@@ -34,7 +35,7 @@ from .tables import SizingTables, default_sizing_tables
 
 __all__ = [
     "ARRANGEMENTS", "CHECK_ORDER", "METHODS", "SPACINGS", "Check", "CircuitSpec", "Device", "Factor",
-    "Iec60364Regime", "LimitsSpec", "LoadSpec", "ProtectionSpec", "ProtectiveConductorSpec", "Regime",
+    "Iec60364Regime", "LimitsSpec", "LoadSpec", "NotAssessed", "ProtectionSpec", "ProtectiveConductorSpec", "Regime",
     "SizeEvaluation", "SizingInput", "SizingResult", "SizingTables", "Step", "SupplySpec", "default_sizing_tables",
     "design_current", "iec60364", "size_conductor", "verify_conductor", "REGIMES", "SizingRegime", "sizing_regime",
 ]

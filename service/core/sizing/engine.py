@@ -13,10 +13,25 @@ import math
 from service.core.cable_impedance import REACTANCE_SOURCE, RESISTANCE_SOURCE, arrangement_for
 from service.core.conductors import Conductor
 from service.core.errors import CalcError, calc_error
-from service.core.protection import CircuitBreaker, GGFuse, ResidualCurrentDevice, required_disconnection_time
+from service.core.protection import (
+    CircuitBreaker,
+    GGFuse,
+    ResidualCurrentDevice,
+    default_protection,
+    required_disconnection_time,
+)
 from service.core.protection.ratings import nonstandard_rating
 
-from .checks import CHECK_ORDER, THERMAL_CHECKS, Context, evaluate, request_blames
+from .checks import (
+    CHECK_ORDER,
+    THERMAL_CHECKS,
+    Context,
+    breaking_rating,
+    evaluate,
+    origin_fault_current,
+    pe_role,
+    request_blames,
+)
 from .circuit import Electrical
 from .model import Device, SizeEvaluation, SizingInput, SizingResult, Step
 from .regime import Capacity, Regime, iec60364
@@ -36,6 +51,10 @@ WAYS_OUT = {
     "protective_conductor_adiabatic": "Enlarge the protective conductor, or choose a device that clears faults faster "
                                       "or limits the let-through energy.",
     "line_conductor_adiabatic": "Choose a current-limiting device, or reduce the prospective fault current.",
+    "protective_conductor_minimum": "Use a separate protective conductor of at least the 543.1.3 minimum, or protect "
+                                    "it against mechanical damage (copper 2.5 mm² then suffices).",
+    "breaking_capacity": "Choose a device whose rated breaking capacity is at least the prospective fault current, or "
+                         "provide back-up protection by an upstream device (IEC 60364-4-43 434.5.1).",
 }
 
 
@@ -131,7 +150,7 @@ def _device(spec: SizingInput, regime: Regime, ib: float) -> tuple[Device, Circu
                         f"No standard {p.device_type} rating reaches Ib = {ib:.4g} A (largest {ratings[-1]:g} A).",
                         "Use gG fuses (to 1250 A), split the load, or give the device and its rating.",
                         (("protection", "device", "type"), f"no rating of at least {ib:.4g} A"))
-    device = GGFuse(rating) if p.device_type == "gG" else CircuitBreaker(p.device_type, rating)
+    device = GGFuse(rating, p.fuse_system) if p.device_type == "gG" else CircuitBreaker(p.device_type, rating)
     conventional = regime.conventional_current(p.device_type, rating)
     return Device(p.device_type, rating, chosen, device.label, conventional.i2_a, conventional.multiple,
                   conventional.source), device
@@ -149,7 +168,18 @@ def _pe_rule(spec: SizingInput, regime: Regime):
             raise _fail(exc.code, exc.detail, exc.how_to_fix, (("protective_conductor", "size"), "not a listed size")) from None
         return lambda line: (given, "given in the request")
     if pc.mode == "minimum":
-        return regime.protective_conductor_minimum
+        if (pc.kind or "cable_core") == "cable_core":
+            return regime.protective_conductor_minimum
+        floor_mm2 = default_protection().separate_pe_minimum_mm2[(material, bool(pc.mechanically_protected))]
+
+        def separate(line: Conductor) -> tuple[Conductor, str]:
+            pe, basis = regime.protective_conductor_minimum(line)
+            if pe.area_m2 >= floor_mm2 * MM2 * (1 - 1e-9):
+                return pe, basis
+            return regime.conductor(floor_mm2 * MM2, material), (
+                f"{basis}; raised to {floor_mm2:g} mm², the minimum of a separate protective conductor "
+                "(IEC 60364-5-54 543.1.3)")
+        return separate
     return lambda line: (line, "same size as the line conductors")
 
 
@@ -221,10 +251,20 @@ def _assumptions(ctx: Context) -> tuple[str, ...]:
         + ("three-phase load balanced, so no neutral current and no neutral drop." if e.phases == "three" else
            "single-phase: line and neutral of the same size."),
         "Ze is taken as resistive and Zs = Ze + R1 + R2 (cable reactance left out of the loop, common practice).",
-        "Protective conductor k from IEC 60364-5-54 Table A.54.4 (a core of the cable, or bunched with it).",
+        f"Protective conductor k by its kind: {pe_role(ctx)[2]} (IEC 60364-5-54 Annex A: Table A.54.4 a core of the "
+        "cable, A.54.2 separate insulated, A.54.3 bare touching a cable covering, A.54.5 bare).",
         "Fault energy I²t = I² x t with t the time the devices are guaranteed to clear within (an upper bound). "
-        "At the origin of the circuit the device's let-through I²t is used when given; without it, a prospective "
-        "fault current cleared within 0.1 s is not assessed (only the maker's let-through figure is meaningful there).",
+        "An RCD is credited for earth faults only; a line-to-neutral or line-to-line fault is cleared by the "
+        "overcurrent device alone (IEC 60364-4-43 434.5.2). At the origin of the circuit the device's let-through "
+        "I²t is used when given, else the energy-limiting class when given (EN 60898-1 Annex ZA, no class is "
+        "assumed); a bound I² x 0.1 s that fails, or a gG fuse-link cleared within 0.1 s, is reported as not "
+        "assessed.",
+        "gG fuse-links: the maximum operating characteristic is taken as straight in log-log between the IEC 60269-1 "
+        "gates Imax(5 s) and Imax(0.1 s)" + (" and the published 0.4 s points of BS 88-2 (BS 7671 Table 41.2)"
+                                              if ctx.spec.protection.fuse_system == "bs88_2" else "")
+        + ", for Ia at the required time and for clearing times; published characteristics are convex in log-log, "
+        "so the chord is on the slow, conservative side (common practice).",
+        f"Prospective fault current at the origin: {origin_fault_current(ctx.spec)[1]}.",
         "Correction factors between tabulated rows take the next worse row (conservative).",
         "A service-chosen gG rating is the smallest standard rating with IEC 60269-1 gates held (16 A and up).",
         "Harmonic currents in the neutral (IEC 60364-5-52 Annex E) are not considered.",
@@ -271,16 +311,20 @@ def _drop_assumptions(ctx: Context) -> tuple[str, ...]:
 def _cautions(ctx: Context) -> tuple[str, ...]:
     notes = ["Installation conditions must match the inputs: method, ambient, grouping, thermal insulation and soil "
              "decide the rating, and a run that meets worse conditions anywhere along it must be sized for them."]
-    if any(t.provenance != "published" for t in (ctx.regime.t.tables[i] for i in ctx.regime.table_ids())):
+    used = {**ctx.regime.t.tables, **default_protection().tables}
+    if any(used[i].provenance != "published" for i in _table_ids(ctx)):
         notes.append("Some table values are from memory and not yet compared with the published tables: check the "
                      "result against the standard before relying on it (provenance in notes.sources).")
-    if ctx.spec.protection.let_through_i2t_a2s is None:
-        notes.append("Short-circuit withstand at the origin of the circuit is checked only with the device's "
-                     "let-through I²t (give protection.let_through_energy from the maker's data) or for faults "
-                     "cleared slower than 0.1 s.")
+    if ctx.spec.protection.breaking_capacity_a is None:
+        notes.append(f"Breaking capacity: {breaking_rating(ctx)[1]}.")
     if ctx.rcd is None and ctx.spec.protection.circuit_kind == "socket_outlets":
         notes.append("Socket-outlet circuits generally need additional protection by a 30 mA RCD (IEC 60364-4-41 411.3.3).")
     return tuple(notes)
+
+
+def _table_ids(ctx: Context) -> tuple[str, ...]:
+    """The regime's tables and the protection tables the checks read (each with its provenance in the answer)."""
+    return tuple(dict.fromkeys((*ctx.regime.table_ids(), *default_protection().tables)))
 
 
 def _governing(rejected: list[SizeEvaluation]) -> str | None:
@@ -314,8 +358,10 @@ def _result(ctx: Context, mode: str, verdict: str, chosen: SizeEvaluation | None
         disconnection_time_s=ctx.disconnection_time_s,
         disconnection_source=next(s.formula for s in steps if s.name == "Required disconnection time"),
         chosen=chosen, governing_check=governing, rejected=tuple(rejected), binding_checks=binding, ways_out=ways,
-        steps=tuple(steps), assumptions=_assumptions(ctx), cautions=_cautions(ctx),
-        table_ids=ctx.regime.table_ids(), solves=solves,
+        steps=tuple(steps), assumptions=_assumptions(ctx),
+        cautions=_cautions(ctx) + tuple(f"Not assessed, so not passed: {n.name}: {n.reason}."
+                                        for n in (chosen.not_assessed if chosen is not None else ())),
+        table_ids=_table_ids(ctx), solves=solves,
         drop_temperature_basis=ctx.spec.circuit.drop_temperature_basis,
     )
 

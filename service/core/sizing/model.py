@@ -17,6 +17,10 @@ DeviceType = Literal["B", "C", "D", "gG"]
 Use = Literal["lighting", "other"]
 SupplyKind = Literal["public_lv", "private_lv"]
 PeMode = Literal["same_as_line", "given", "minimum"]
+# What the protective conductor is (IEC 60364-5-54 Tables A.54.2 to A.54.5): a core of the cable (or bunched with
+# it), a separate insulated conductor, a bare conductor touching a cable covering, a bare conductor elsewhere.
+PeKind = Literal["cable_core", "separate_insulated", "bare_on_cable_covering", "bare"]
+FuseSystem = Literal["iec60269_1", "bs88_2"]
 CircuitKind = Literal["socket_outlets", "fixed_equipment", "distribution"]
 DropTemperatureBasis = Literal["maximum_operating", "estimated_from_load"]
 METHODS = ("A1", "A2", "B1", "B2", "C", "D1", "D2", "E", "F")
@@ -69,6 +73,9 @@ class ProtectionSpec:
     required_time_s: float | None = None  # None: from circuit kind and earthing (IEC 60364-4-41)
     circuit_kind: CircuitKind = "fixed_equipment"
     let_through_i2t_a2s: float | None = None  # the maker's let-through energy at the prospective fault current
+    breaking_capacity_a: float | None = None  # Icn (breaker) or rated breaking capacity (fuse); None: a stated default
+    energy_class: Literal[1, 2, 3] | None = None  # EN 60898-1 Annex ZA energy-limiting class; None: not assumed
+    fuse_system: FuseSystem = "iec60269_1"  # gG: the gates alone, or BS 88-2 with its published 0.4 s points
 
 
 @dataclass(frozen=True, slots=True)
@@ -93,6 +100,8 @@ class LimitsSpec:
 class ProtectiveConductorSpec:
     mode: PeMode = "same_as_line"
     area_m2: float | None = None  # mode "given"
+    kind: PeKind | None = None  # None: a core of the cable
+    mechanically_protected: bool | None = None  # a separate PE (543.1.3); None: taken as not protected
 
 
 @dataclass(frozen=True, slots=True)
@@ -130,6 +139,14 @@ class Check:
 
 
 @dataclass(frozen=True, slots=True)
+class NotAssessed:
+    """A check that could not be made, and why: never read as a pass."""
+
+    name: str
+    reason: str
+
+
+@dataclass(frozen=True, slots=True)
 class Device:
     device_type: str
     rated_current_a: float
@@ -164,6 +181,7 @@ class SizeEvaluation:
     line_impedance: LineImpedance | None = None
     drop_phases: str | None = None  # "single" or "three": how the impedance reads as the tables' mV/A/m
     parallel_sets: int = 1  # conductors in parallel per line (NEC 310.10(G)); size_label is one conductor's
+    not_assessed: tuple[NotAssessed, ...] = ()
 
     @property
     def passes(self) -> bool:

@@ -53,6 +53,7 @@ def _size_out(ev: core.SizeEvaluation) -> s.SizeOut:
                            condition=c.condition, source=c.source, detail=c.detail, obligation=c.obligation)
                 for c in ev.checks],
         **_impedance_fields(ev),
+        not_assessed=[s.NotAssessedOut(name=n.name, reason=n.reason) for n in ev.not_assessed],
     )
 
 
@@ -161,7 +162,10 @@ _DESCRIPTION_COMMON = (
     "Annex G's 0.08 mΩ/m; at the maximum conductor temperature or, on request, one estimated from the load) and the "
     "earth-fault loop impedance "
     "Zs = Ze + R1 + R2 from the network solver, against Table G.52.1 and the device's maximum Zs for the disconnection "
-    "time of IEC 60364-4-41; the adiabatic check of the protective and line conductors. A design that does not comply "
+    "time of IEC 60364-4-41; the adiabatic check of the protective and line conductors (an RCD credited for earth "
+    "faults only; k of the protective conductor by its kind), the 543.1.3 minimum of a separate protective "
+    "conductor, and the device's breaking capacity against the prospective fault current (434.5.1). A check that "
+    "cannot be made is listed in not_assessed, never passed. A design that does not comply "
     "is a verdict in a 200 answer; a 422 means the inputs contradict each other or admit no answer."
     " Regime nec (NFPA 70-2023), the same response: load current and its continuous part; the device at least 125 % "
     "of the continuous plus the non-continuous load (210.20(A), 215.3; Table 240.6(A) ratings); the termination "

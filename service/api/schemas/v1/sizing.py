@@ -145,6 +145,18 @@ class DeviceIn(Strict):
         "NEC: a fuse or inverse-time breaker of a Table 240.6(A) rating, no type."))] = None
     rated_current: quantity(DEVICE_RATING, "32 A", 32) | None = None  # type: ignore[valid-type]
     """Leave out to let the service pick the smallest standard rating at least Ib."""
+    breaking_capacity: quantity(CURRENT, "6 kA", 6000) | None = None  # type: ignore[valid-type]
+    """IEC 60364 only: the rated breaking capacity (Icn of an IEC 60898-1 circuit-breaker, the rated breaking
+    capacity of a gG fuse-link), checked against the prospective fault current (434.5.1). Default: 6 kA for a
+    circuit-breaker, 50 kA for a gG fuse-link (common practice, stated in the answer)."""
+    energy_class: Annotated[Literal[1, 2, 3] | None, Meta(description=(
+        f"{IEC}: energy-limiting class of a type B or C circuit-breaker up to 32 A (EN 60898-1 Annex ZA), for the "
+        "let-through energy of faults at the origin. Default: none assumed (the short-circuit withstand is then "
+        "checked only where the bound I² x 0.1 s suffices, else reported as not assessed)."))] = None
+    fuse_system: Annotated[Literal["iec60269_1", "bs88_2"] | None, Meta(description=(
+        f"{IEC}, gG fuse-links: iec60269_1 (any gG fuse-link: the band between the IEC 60269-1 gates) or bs88_2 "
+        "(BS 88-2 fuse systems E and G: the published 0.4 s operating currents refine the band). Default "
+        "iec60269_1."))] = None
 
 
 class RcdIn(Strict):
@@ -203,6 +215,14 @@ class ProtectiveConductorIn(Strict):
         "adiabatically; default same_as_line), or the NEC's Table 250.122 increased per 250.122(B) (default "
         "minimum)."))] = None
     size: ConductorSizeField | None = None
+    kind: Annotated[Literal["cable_core", "separate_insulated", "bare_on_cable_covering", "bare"] | None, Meta(
+        description=(
+            f"{IEC}: what the protective conductor is, which sets its k (IEC 60364-5-54 Tables A.54.4, A.54.2, "
+            "A.54.3, A.54.5) and, for a separate conductor, the minimum of 543.1.3. Default cable_core for modes "
+            "same_as_line and minimum; required with mode given."))] = None
+    mechanically_protected: Annotated[bool | None, Meta(description=(
+        f"{IEC}, a separate protective conductor: protected against mechanical damage (543.1.3: copper 2.5 mm², "
+        "else 4 mm²; aluminium 16 mm²). Default: not protected."))] = None
 
 
 class SizingRequest(Strict, kw_only=True):
@@ -244,6 +264,11 @@ class CheckOut(Out):
         "percentages)."))]
 
 
+class NotAssessedOut(Out):
+    name: Annotated[str, Meta(description="The check that could not be made (never read as a pass).")]
+    reason: str
+
+
 class SizeOut(Out):
     size_label: Annotated[str, Meta(description="One conductor's size (of each set, when parallel_sets > 1).")]
     parallel_sets: Annotated[int, Meta(description=(
@@ -281,6 +306,9 @@ class SizeOut(Out):
         "Conductor temperature of the voltage drop (see drop_temperature_basis)."))] = None
     line_impedance_basis: Annotated[str | None, Meta(description=(
         "Arrangement, diameters and spacing the reactance comes from, and the AC resistance factors."))] = None
+    not_assessed: Annotated[list[NotAssessedOut], Meta(description=(
+        "Checks that could not be made for lack of data (such as the let-through energy of a device), with what "
+        "would settle them; a design is compliant only on the checks listed in checks."))] = []
 
 
 class TradeSizeOut(Out):
