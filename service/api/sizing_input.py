@@ -157,9 +157,6 @@ def _protective_conductor(reader: FieldReader, pc: s.ProtectiveConductorIn) -> P
         area = size.area_m2
     mode = pc.mode or "same_as_line"
     check_protective_mode(reader, mode, pc)
-    if mode == "given" and pc.kind is None:
-        reader.add("mode 'given' needs the kind of protective conductor (cable_core, separate_insulated, "
-                   "bare_on_cable_covering or bare): it sets k and the 543.1.3 minimum", "protective_conductor", "kind")
     if pc.mechanically_protected is not None and (pc.kind or "cable_core") == "cable_core":
         reader.add("mechanical protection applies to a separate protective conductor (543.1.3), not a core of the cable",
                    "protective_conductor", "mechanically_protected")

@@ -311,10 +311,16 @@ def test_not_assessed_checks_are_listed_not_passed(client):
     assert "breaking_capacity" not in {c["name"] for c in body["chosen"]["checks"]}
 
 
-def test_given_protective_conductor_needs_its_kind(client):
-    body = problem(client.post(VERIFY, json=request(
-        circuit={"size": "4 mm2"}, protective_conductor={"mode": "given", "size": "2.5 mm2"})), 422)
-    assert "/protective_conductor/kind" in pointers(body)
+def test_given_protective_conductor_without_kind_is_a_core_of_the_cable(client):
+    # v1 callers keep working: a given size without its kind is taken as a core of the cable, whose k
+    # (IEC 60364-5-54:2011 Table A.54.4: 115 for 70 °C PVC copper) is the lowest of Tables A.54.2-A.54.5.
+    given = {"mode": "given", "size": "2.5 mm2"}
+    plain = ok(client.post(VERIFY, json=request(circuit={"size": "4 mm2"}, protective_conductor=given)))
+    core = ok(client.post(VERIFY, json=request(circuit={"size": "4 mm2"},
+                                               protective_conductor={**given, "kind": "cable_core"})))
+    assert plain["chosen"]["checks"] == core["chosen"]["checks"]
+    assert "protective_conductor_minimum" not in {c["name"] for c in plain["chosen"]["checks"]}
+    assert any("k = 115" in c["detail"] for c in plain["chosen"]["checks"] if c["name"] == "protective_conductor_adiabatic")
 
 
 def test_issue_14_protection_fields_are_refused_where_they_do_not_apply(client):

@@ -218,8 +218,10 @@ class ProtectiveConductorIn(Strict):
     kind: Annotated[Literal["cable_core", "separate_insulated", "bare_on_cable_covering", "bare"] | None, Meta(
         description=(
             f"{IEC}: what the protective conductor is, which sets its k (IEC 60364-5-54 Tables A.54.4, A.54.2, "
-            "A.54.3, A.54.5) and, for a separate conductor, the minimum of 543.1.3. Default cable_core for modes "
-            "same_as_line and minimum; required with mode given."))] = None
+            "A.54.3, A.54.5) and, for a separate conductor, the minimum of 543.1.3. Default cable_core in every "
+            "mode (a reduced core of the same cable, as in flat twin-and-earth cable, with mode given): its k is the "
+            "lowest of the four tables, so the default never overstates the withstand; a separate conductor must "
+            "be described as one to be checked against 543.1.3."))] = None
     mechanically_protected: Annotated[bool | None, Meta(description=(
         f"{IEC}, a separate protective conductor: protected against mechanical damage (543.1.3: copper 2.5 mm², "
         "else 4 mm²; aluminium 16 mm²). Default: not protected."))] = None
