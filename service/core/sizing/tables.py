@@ -44,6 +44,8 @@ SOIL_REFERENCE_K_M_PER_W = 2.5  # Table B.52.16 title: resistivities other than 
 GROUPING_AIR_TABLE = "iec60364-5-52-tableB52-17"
 GROUPING_DIRECT_TABLE = "iec60364-5-52-tableB52-18"
 GROUPING_DUCT_TABLE = "iec60364-5-52-tableB52-19"
+# The single-core part of Table B.52.19 (each single-core cable in its own duct), one file of its own.
+GROUPING_DUCT_SINGLE_CORE_TABLE = "iec60364-5-52-tableB52-19-single-core"
 INSULATION_TABLE = "bs7671-table52-2"
 INSULATION_TABLE_UP_TO_MM2 = 10.0  # BS 7671 Table 52.2 heading: conductors up to 10 mm²
 DROP_TABLE = "iec60364-5-52-tableG52-1"
@@ -208,6 +210,18 @@ def _grouping_buried(table: DataTable) -> dict[str, tuple[StepFactor, ...]]:
     return found
 
 
+def _single_core_not_better(single: dict[str, tuple[StepFactor, ...]], multi: dict[str, tuple[StepFactor, ...]]) -> None:
+    """Table B.52.19: single-core circuits in ducts never group better than multicore cables at the same spacing."""
+    if set(single) != set(multi):
+        _fail(GROUPING_DUCT_SINGLE_CORE_TABLE, f"spacings must be those of {GROUPING_DUCT_TABLE}")
+    for spacing, steps in single.items():
+        by_n = {s.upto: s.value for s in multi[spacing]}
+        for s in steps:
+            if s.upto not in by_n or s.value > by_n[s.upto]:
+                _fail(GROUPING_DUCT_SINGLE_CORE_TABLE, f"{spacing}, {s.upto:g} circuits: must be a row of "
+                                                       f"{GROUPING_DUCT_TABLE} and not above its factor")
+
+
 def _drop_limits(table: DataTable) -> dict[str, tuple[float, float]]:
     limits = {}
     for r in table.records():
@@ -290,7 +304,7 @@ class SizingTables:
 
     def __init__(self, tables: dict[str, DataTable]) -> None:
         wanted = (*ENCLOSED_TABLES, *FREE_AIR_TABLES, *(t for t, _ in AMBIENT_TABLES.values()), SOIL_TABLE,
-                  GROUPING_AIR_TABLE, GROUPING_DIRECT_TABLE, GROUPING_DUCT_TABLE, INSULATION_TABLE, DROP_TABLE, PE_TABLE,
+                  GROUPING_AIR_TABLE, GROUPING_DIRECT_TABLE, GROUPING_DUCT_TABLE, GROUPING_DUCT_SINGLE_CORE_TABLE, INSULATION_TABLE, DROP_TABLE, PE_TABLE,
                   BREAKER_CONVENTIONAL_TABLE, FUSE_CONVENTIONAL_TABLE, *DENSITY_TABLES)
         self.tables = {t: tables[t] for t in wanted}
         columns: list[CapacityColumn] = []
@@ -312,6 +326,8 @@ class SizingTables:
         self.grouping_air = _grouping_air(tables[GROUPING_AIR_TABLE])
         self.grouping_direct = _grouping_buried(tables[GROUPING_DIRECT_TABLE])
         self.grouping_ducts = _grouping_buried(tables[GROUPING_DUCT_TABLE])
+        self.grouping_ducts_single_core = _grouping_buried(tables[GROUPING_DUCT_SINGLE_CORE_TABLE])
+        _single_core_not_better(self.grouping_ducts_single_core, self.grouping_ducts)
         self.insulation = _steps(tables[INSULATION_TABLE], "length_in_insulation_mm", "factor", None, falling=True)
         if not all(s.value < 1.0 for s in self.insulation):
             _fail(INSULATION_TABLE, "every thermal insulation factor must be below 1")
