@@ -47,6 +47,7 @@ def _load(reader: FieldReader, load: s.LoadIn) -> LoadSpec:
         voltage_v=_optional(reader, load.voltage, VOLTAGE, "load", "voltage"),
         power_factor=load.power_factor,
         efficiency=load.efficiency,
+        third_harmonic_pct=load.third_harmonic_content,
     )
 
 
@@ -71,6 +72,7 @@ def _circuit(reader: FieldReader, c: s.CircuitIn) -> CircuitSpec:
         soil_resistivity_k_m_per_w=_optional(reader, c.soil_thermal_resistivity, SOIL_THERMAL_RESISTIVITY, "circuit",
                                              "soil_thermal_resistivity"),
         neutral=c.neutral,
+        parallel_sets=getattr(c, "parallel_sets", 1),
     )
 
 
@@ -126,7 +128,7 @@ IEC_ONLY = (("circuit", "method"), ("circuit", "insulation"), ("circuit", "cable
             ("circuit", "ambient_medium"), ("circuit", "grouping"), ("circuit", "thermal_insulation_length"),
             ("circuit", "soil_thermal_resistivity"), ("protection", "device", "type"), ("protection", "rcd"),
             ("protection", "required_disconnection_time"), ("protection", "circuit_kind"),
-            ("protection", "let_through_energy"), ("supply", "u0"), ("supply", "earthing"), ("supply", "ze"),
+            ("protection", "let_through_energy"), ("load", "third_harmonic_content"), ("supply", "u0"), ("supply", "earthing"), ("supply", "ze"),
             ("supply", "prospective_fault_current"), ("supply", "electrode_resistance"), ("limits", "use"),
             ("limits", "supply_kind"))
 NEC_ONLY = (("load", "continuous_share"), ("circuit", "conductor_type"), ("circuit", "insulation_rating"),
@@ -144,6 +146,8 @@ def regime_fields(reader: FieldReader, req: s.SizingRequest) -> None:
             value = getattr(value, name)
         if value is not None:
             reader.add(f"applies to regime {owner} ({REGIME_NAMES[owner]}) only, not {req.regime}", *path)
+    if req.regime != "iec60364" and getattr(req.circuit, "parallel_sets", 1) != 1:
+        reader.add(f"applies to regime iec60364 (IEC 60364) only here, not {req.regime}", "circuit", "parallel_sets")
 
 
 def to_sizing_input(req: s.SizingRequest | s.VerifyRequest) -> tuple[SizingInput, float | None]:

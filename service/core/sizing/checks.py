@@ -29,9 +29,9 @@ from .model import Check, Device, Factor, SizeEvaluation, SizingInput
 from .regime import Capacity, Regime
 
 MM2 = 1.0e-6
-CHECK_ORDER = ("design_current_within_rating", "ampacity", "conventional_current", "voltage_drop", "earth_fault_loop",
-               "protective_conductor_adiabatic", "line_conductor_adiabatic")
-THERMAL_CHECKS = CHECK_ORDER[:3]
+CHECK_ORDER = ("design_current_within_rating", "ampacity", "conventional_current", "neutral_ampacity", "voltage_drop",
+               "earth_fault_loop", "protective_conductor_adiabatic", "line_conductor_adiabatic")
+THERMAL_CHECKS = CHECK_ORDER[:4]  # no network solve (neutral_ampacity: harmonics.py, IEC 60364-5-52 Annex E)
 # Times tried for the guaranteed clearing of a fault current, shortest first (the RCD, breaker and fuse rows).
 CLEARING_TIMES_S = (0.04, 0.1, 0.15, 0.3, 5.0)
 ADIABATIC_LIMIT_S = 5.0  # IEC 60364-4-43 434.5.2: the adiabatic formula holds up to 5 s

@@ -33,6 +33,7 @@ class LoadSpec:
     voltage_v: float | None = None  # line-to-neutral (single-phase) or line-to-line (three-phase); default from U0
     power_factor: float = 1.0
     efficiency: float = 1.0
+    third_harmonic_pct: float | None = None  # third-harmonic content of the line current (IEC 60364-5-52 Annex E)
 
 
 @dataclass(frozen=True, slots=True)
@@ -51,6 +52,7 @@ class CircuitSpec:
     thermal_insulation_length_m: float = 0.0
     soil_resistivity_k_m_per_w: float | None = None  # None: the reference 2.5 K·m/W
     neutral: bool = True  # three-phase: a neutral conductor runs with the lines (counts in the mass)
+    parallel_sets: int = 1  # verify: the size given runs in this many equal parallel sets (523.7)
 
 
 @dataclass(frozen=True, slots=True)
@@ -151,6 +153,9 @@ class SizeEvaluation:
     metal_mass_kg: float
     r1_ohm: float | None
     r2_ohm: float | None
+    # Conductors in parallel (IEC 60364-5-52 523.7): sets of the size above; area, It and the labels are per set,
+    # Iz, R1, R2, Zs, the drop and the mass are of the whole run.
+    parallel_sets: int = 1
 
     @property
     def passes(self) -> bool:

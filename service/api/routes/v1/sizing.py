@@ -35,7 +35,7 @@ def _size_out(ev: core.SizeEvaluation) -> s.SizeOut:
         capacity_basis=ev.capacity_basis, iz_a=ev.iz_a, voltage_drop_v=ev.voltage_drop_v,
         voltage_drop_pct=ev.voltage_drop_pct, total_voltage_drop_pct=ev.total_drop_pct, zs_ohm=ev.zs_ohm,
         earth_fault_current_a=ev.earth_fault_current_a, r1_ohm=ev.r1_ohm, r2_ohm=ev.r2_ohm,
-        metal_mass_kg=ev.metal_mass_kg, passes=ev.passes, failing_checks=list(ev.failing),
+        metal_mass_kg=ev.metal_mass_kg, passes=ev.passes, failing_checks=list(ev.failing), parallel_sets=ev.parallel_sets,
         checks=[s.CheckOut(name=c.name, passes=c.passes, value=c.value, limit=c.limit, unit=c.unit,
                            condition=c.condition, source=c.source, detail=c.detail, obligation=c.obligation)
                 for c in ev.checks],

@@ -56,6 +56,11 @@ class LoadIn(Strict):
     voltage: quantity(VOLTAGE, "230 V", "400 V") | None = None  # type: ignore[valid-type]
     power_factor: Annotated[Fraction, Meta(description="cos φ of the load, lagging.")] = 1.0
     efficiency: Annotated[Fraction, Meta(description="When the power given is the output (a motor's shaft power).")] = 1.0
+    third_harmonic_content: Annotated[Annotated[float, Meta(ge=0.0, le=100.0)] | None, Meta(description=(
+        f"{IEC}: third-harmonic content of the line current, in %. Three-phase circuits with a neutral: the neutral "
+        "carries 3 x content x Ib, and IEC 60364-5-52 Annex E Table E.52.1 derates the cable (15 to 33 %: factor "
+        "0.86 on the line current) or sizes it on the neutral current (above 33 %: check neutral_ampacity). "
+        "Default: not given, taken below 15 % (no reduction), said in the assumptions."))] = None
     continuous_share: Annotated[Annotated[float, Meta(ge=0.0, le=1.0)] | None, Meta(description=(
         f"{NEC}: the share of the load that is continuous (maximum current for 3 h or more); conductor and device "
         "are sized for 125 % of it plus 100 % of the rest (210.19(A), 215.2). Default 1 (all continuous)."))] = None
@@ -114,6 +119,9 @@ class CircuitIn(Strict):
 
 class VerifyCircuitIn(CircuitIn, kw_only=True):
     size: ConductorSizeField
+    parallel_sets: Annotated[int, Meta(ge=1, le=20, description=(
+        f"{IEC}: the size runs in this many equal parallel sets (same size, material, length and route; IEC 60364-5-52 "
+        "523.7), each counted as a circuit of the group. Default 1."))] = 1
 
 
 class DeviceIn(Strict):
@@ -225,6 +233,9 @@ class SizeOut(Out):
     passes: bool
     failing_checks: list[str]
     checks: list[CheckOut]
+    parallel_sets: Annotated[int, Meta(description=(
+        "Equal conductor sets in parallel (IEC 60364-5-52 523.7); size, area and tabulated capacity are per set, Iz, "
+        "R1, R2, Zs, the drop and the mass are of the whole run."))] = 1
 
 
 class TradeSizeOut(Out):
