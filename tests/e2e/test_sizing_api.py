@@ -155,3 +155,12 @@ def test_parallel_sets_in_the_answer_and_in_verify(client):
     assert sized["rejected"][0]["parallel_sets"] == 1
     verified = ok(client.post(VERIFY, json=request(**{**feeder, "circuit": {"size": "300 mm2", "parallel_sets": 2}})))
     assert verified["verdict"] == "compliant" and verified["chosen"]["iz_a"] == pytest.approx(742.4)
+
+
+def test_iec_only_parallel_sets_and_harmonics_are_refused_for_the_nec(client):
+    nec = {"regime": "nec", "load": {"design_current": "40 A", "continuous_share": 1.0,
+                                     "third_harmonic_content": 40},
+           "circuit": {"length": "100 ft", "raceway": "emt", "size": "6 AWG", "parallel_sets": 2},
+           "supply": {"system": "240V"}}
+    body = problem(client.post(VERIFY, json=nec), 422)
+    assert {"/circuit/parallel_sets", "/load/third_harmonic_content"} <= pointers(body)
