@@ -189,16 +189,21 @@ def test_a_larger_device_only_when_the_device_is_below_ib():
 
 
 def test_method_c_only_when_the_method_is_not_c():
-    b2 = verify_conductor(spec(circuit=CircuitSpec(length_m=10.0, method="B2")), 1.5 * MM2)
-    # Table B.52.2 (PVC, two loaded copper conductors): 1.5 mm² B2 16.5 A (< In 20 A), method C 19.5 A
+    def grouped(method, insulation="pvc_70", ib=20.0):
+        return spec(load=LoadSpec(design_current_a=ib), circuit=CircuitSpec(
+            length_m=10.0, method=method, insulation=insulation, grouped_circuits=2))
+    b2 = verify_conductor(grouped("B2"), 2.5 * MM2)
+    # Table B.52.2 (PVC, two loaded copper conductors) 2.5 mm²: B2 23 A, C 27 A; two circuits bunched Cg 0.80
+    # (Table B.52.17): B2 Iz 18.4 A < In 20 A, method C Iz 21.6 A >= 20 A
     assert "ampacity" in b2.binding_checks
-    assert ways(b2, "Method C (clipped direct) would rate 1.5 mm² at Iz = 19.5 A (now 16.5 A)")
-    c = verify_conductor(spec(circuit=CircuitSpec(length_m=10.0, method="C")), 1.5 * MM2)
+    assert ways(b2, "Method C (clipped direct) would rate 2.5 mm² at Iz = 21.6 A (now 18.4 A)")
+    c = verify_conductor(grouped("C"), 1.5 * MM2)
     assert "ampacity" in c.binding_checks and not ways(c, "clipped direct")
-    # XLPE rates it higher (Table B.52.3 method C 1.5 mm² 24 A, from the file) and is offered for PVC only
-    assert ways(c, "XLPE/EPR insulation (90 °C) would rate 1.5 mm²")
-    xlpe = verify_conductor(spec(circuit=CircuitSpec(length_m=10.0, method="C", insulation="xlpe_epr_90"),
-                                 load=LoadSpec(design_current_a=30.0)), 1.5 * MM2)
+    # XLPE, Table B.52.3 method C 1.5 mm² 24 A (from the file) x 0.8 = 19.2 A < 20 A: higher, not enough, not offered
+    assert not ways(c, "XLPE")
+    # 2.5 mm² B2 in XLPE: 30 A x 0.8 = 24 A >= 20 A: offered for PVC
+    assert ways(b2, "XLPE/EPR insulation (90 °C) would rate 2.5 mm² at Iz = 24 A")
+    xlpe = verify_conductor(grouped("B2", "xlpe_epr_90", 25.0), 2.5 * MM2)
     assert "ampacity" in xlpe.binding_checks and not ways(xlpe, "XLPE")
 
 

@@ -65,7 +65,8 @@ def _next_rating(ctx: Context) -> list[str]:
 
 
 def _cooler(ctx: Context, ev: SizeEvaluation, tools: Tools, binding: tuple[str, ...]) -> list[str]:
-    """Another method or insulation that rates the same size higher (same medium, a method the cable takes)."""
+    """Another method or insulation under which the same size passes the current-carrying checks (same medium, a
+    method the cable takes)."""
     c, spec = tools.spec.circuit, tools.spec
     changes = []
     for method in ("C", "E" if c.cable == "multicore" else "F"):
@@ -78,10 +79,10 @@ def _cooler(ctx: Context, ev: SizeEvaluation, tools: Tools, binding: tuple[str, 
         other = _try(tools, replace(spec, circuit=circuit), ev)
         if other is None or other.iz_a <= ev.iz_a * (1 + 1e-9):
             continue
-        verdict = ("passes" if all(_passes(other, n) for n in binding if n in THERMAL)
-                   else "still fails")
+        if not all(_passes(other, n) for n in binding if n in THERMAL):
+            continue  # rates it higher, but not enough: no way out
         found.append(f"{what[0].upper() + what[1:]} would rate {label(ev)} at Iz = {other.iz_a:.4g} A (now "
-                     f"{ev.iz_a:.4g} A): the current-carrying check {verdict}.")
+                     f"{ev.iz_a:.4g} A), enough for the current-carrying checks.")
     return found
 
 
@@ -114,6 +115,8 @@ def _drop_length(ctx: Context, ev: SizeEvaluation) -> list[str]:
 
 def _loop_length(ctx: Context, ev: SizeEvaluation, check: Check) -> list[str]:
     ze, zs_max, length = ctx.spec.supply.ze_ohm, check.limit, ctx.spec.circuit.length_m
+    if check.value <= zs_max:
+        return []  # Zs is within Zs,max: the loop fails on another condition (the touch voltage), not on length
     if zs_max <= ze:
         return [f"Ze {ze:g} ohm alone exceeds Zs,max {zs_max:.4g} ohm: no length of cable passes with this device."]
     if ev.r1_ohm is None or ev.r2_ohm is None:
@@ -163,6 +166,9 @@ def _pe(ctx: Context, ev: SizeEvaluation, check: Check, tools: Tools) -> list[st
 
 
 def _line(ctx: Context, ev: SizeEvaluation, check: Check) -> list[str]:
+    if check.value <= check.limit:
+        return [f"The fault at the origin is not cleared within 5 s by {ctx.device.label}: larger line conductors do "
+                "not help; choose a device that clears it faster."]
     found = []
     need = ev.area_m2 * math.sqrt(check.value / check.limit)
     wanted = _next_listed(ctx, need)
