@@ -99,6 +99,8 @@ def assumption(spec: SizingInput, r: HarmonicRule | None) -> str:
         text += f"Sized on the line current with factor {r.band.factor:g} (the harmonics correction factor)."
     else:
         text += "Below 15 %: no reduction."
+    text += (" The voltage drop is the fundamental's: the neutral's third-harmonic current adds no drop at the "
+             "fundamental frequency.")
     if spec.circuit.cable == "single_core":
         text += (" Table E.52.1 is written for four- and five-core cables; it is applied to single-core cables too, "
                  "with the neutral a fourth loaded conductor of the same size.")
