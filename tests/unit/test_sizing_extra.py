@@ -284,3 +284,21 @@ def test_no_compliant_size_offers_no_size_search():
     r = size_conductor(spec(circuit=CircuitSpec(length_m=20000.0, method="C")))
     assert r.verdict == "no_compliant_size" and not ways(r, "passes every check")
     assert ways(r, "Shorten the run to")
+
+
+def test_a_protective_conductor_as_large_as_the_line_for_the_loop():
+    from service.core.sizing import ProtectiveConductorSpec
+    small_pe = spec(load=LoadSpec(design_current_a=45.0), circuit=CircuitSpec(length_m=60.0, method="C"),
+                    protection=ProtectionSpec("B", 50.0), protective_conductor=ProtectiveConductorSpec("given", 2.5 * MM2))
+    r = verify_conductor(small_pe, 16 * MM2)
+    # Type B 50 A: Zs,max = 0.95 x 230 / 250 = 0.874 ohm (IEC 60898-1, IEC 60364-4-41 411.4.4). IEC 60228 Table 2 at
+    # 20 °C: 16 mm² 1.15, 2.5 mm² 7.41 ohm/km, x 304.5 / 254.5 at 70 °C. Zs = 0.35 + 60 x (1.376 + 8.866) mohm =
+    # 0.965 ohm fails; with a 16 mm² PE 0.35 + 60 x 2 x 1.376 mohm = 0.515 ohm passes; longest run with the 2.5 mm² PE
+    # (0.874 - 0.35) / 10.24 mohm/m = 51.1 m
+    r16 = 1.15e-3 * (234.5 + 70) / (234.5 + 20)
+    assert r.binding_checks[0] == "earth_fault_loop"
+    assert ways(r, f"A protective conductor the size of the line conductors (16 mm² instead of 2.5 mm²) passes the "
+                   f"loop check (Zs {0.35 + 60 * 2 * r16:.4g} ohm)")
+    assert ways(r, f"Shorten the run to {math.floor((0.874 - 0.35) / (r16 + R25_70) * 10) / 10:g} m for the loop")
+    same = verify_conductor(dataclasses.replace(small_pe, protective_conductor=ProtectiveConductorSpec()), 2.5 * MM2)
+    assert "earth_fault_loop" in same.binding_checks and not ways(same, "the size of the line conductors")

@@ -101,7 +101,7 @@ class SizingInput:
 
 @dataclass(frozen=True, slots=True)
 class Factor:
-    name: str  # "ambient", "grouping", "thermal_insulation", "soil"
+    name: str  # "ambient", "grouping", "thermal_insulation", "soil", "harmonics" (IEC 60364-5-52 Table E.52.1)
     value: float
     basis: str
     source: str

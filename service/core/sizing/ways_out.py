@@ -126,7 +126,7 @@ def _loop_length(ctx: Context, ev: SizeEvaluation, check: Check) -> list[str]:
             f" = ({zs_max:.4g} - {ze:g}) / {per_m * 1000:.4g} mohm/m."]
 
 
-def _loop_device(ctx: Context, ev: SizeEvaluation, tools: Tools) -> list[str]:
+def _loop_changes(ctx: Context, ev: SizeEvaluation, tools: Tools) -> list[str]:
     spec, found = tools.spec, []
     if ctx.device.device_type != "B":
         other = _try(tools, replace(spec, protection=replace(spec.protection, device_type="B",
@@ -134,6 +134,11 @@ def _loop_device(ctx: Context, ev: SizeEvaluation, tools: Tools) -> list[str]:
         if _passes(other, "earth_fault_loop"):
             found.append(f"A type B {ctx.device.rated_current_a:g} A circuit-breaker passes the loop check on "
                          f"{label(ev)} (Zs,max {_check(other, 'earth_fault_loop').limit:.4g} ohm).")
+    if ev.pe_area_m2 < ev.area_m2 * (1 - 1e-9):
+        other = _try(tools, replace(spec, protective_conductor=ProtectiveConductorSpec("same_as_line")), ev)
+        if _passes(other, "earth_fault_loop"):
+            found.append(f"A protective conductor the size of the line conductors ({ev.size_label} instead of "
+                         f"{ev.pe_size_label}) passes the loop check (Zs {other.zs_ohm:.4g} ohm).")
     if ctx.rcd is None:
         other = _try(tools, replace(spec, protection=replace(spec.protection, rcd_residual_current_a=0.03)), ev)
         if _passes(other, "earth_fault_loop"):
@@ -201,7 +206,7 @@ def suggest(ctx: Context, mode: str, ev: SizeEvaluation, binding: tuple[str, ...
         found += _drop_length(ctx, ev)
     loop = _check(ev, "earth_fault_loop")
     if "earth_fault_loop" in binding and loop is not None:
-        found += _loop_length(ctx, ev, loop) + _loop_device(ctx, ev, tools)
+        found += _loop_length(ctx, ev, loop) + _loop_changes(ctx, ev, tools)
     pe = _check(ev, "protective_conductor_adiabatic")
     if "protective_conductor_adiabatic" in binding and pe is not None:
         found += _pe(ctx, ev, pe, tools)
