@@ -302,3 +302,13 @@ def test_a_protective_conductor_as_large_as_the_line_for_the_loop():
     assert ways(r, f"Shorten the run to {math.floor((0.874 - 0.35) / (r16 + R25_70) * 10) / 10:g} m for the loop")
     same = verify_conductor(dataclasses.replace(small_pe, protective_conductor=ProtectiveConductorSpec()), 2.5 * MM2)
     assert "earth_fault_loop" in same.binding_checks and not ways(same, "the size of the line conductors")
+
+
+def test_no_protective_conductor_large_enough_is_said_with_its_numbers():
+    r = size_conductor(spec(load=LoadSpec(phases="three", design_current_a=700.0, power_factor=0.9),
+                            circuit=CircuitSpec(length_m=80.0, method="E"), protection=ProtectionSpec("gG"),
+                            supply=SupplySpec(ze_ohm=0.01)))
+    # gG 800 A with only its 5 s gate held: I²t = If² x 5 s; one 300 mm² core takes k² S² = 115² x 300² = 1.19e9 A²s
+    # (IEC 60364-5-54 Table A.54.4, 543.1.2), and the largest listed size is 300 mm²
+    assert r.verdict == "no_compliant_size" and r.binding_checks == ("protective_conductor_adiabatic",)
+    assert ways(r, "No listed size reaches the") and ways(r, "k² S² 1.19e+09 A²s")

@@ -167,7 +167,10 @@ def _pe(ctx: Context, ev: SizeEvaluation, check: Check, tools: Tools) -> list[st
             return [f"A protective conductor of {other.pe_size_label} (protective_conductor mode 'given') passes the "
                     f"adiabatic check (at least sqrt(I²t) / k = {need * 1e6:.3g} mm² at today's fault current; the "
                     "larger conductor raises the fault current, so the size is verified)."]
-    return []
+    which = (f"No protective conductor up to {tried[:PE_TRIES][-1] * 1e6:g} mm² passes" if tried
+             else f"No listed size reaches the {need * 1e6:.3g} mm² the fault energy asks for")
+    return [f"{which} (I²t {check.value:.4g} A²s against k² S² {check.limit:.4g} A²s now): a device guaranteed to "
+            "clear the fault faster, or the maker's let-through energy, lowers I²t."]
 
 
 def _line(ctx: Context, ev: SizeEvaluation, check: Check) -> list[str]:
@@ -190,7 +193,10 @@ def suggest(ctx: Context, mode: str, ev: SizeEvaluation, binding: tuple[str, ...
     """Ways out of the failing checks ``binding`` of ``ev`` (verify: the size given; size: the largest tried)."""
     found: list[str] = []
     if mode == "verify":
-        best = tools.smallest(tools.spec)
+        try:
+            best = tools.smallest(tools.spec)
+        except CalcError:
+            best = ev  # no search under these conditions: nothing to offer from it
         if best is None:
             found.append("No size, single or in parallel sets, passes every check with this device under these "
                          "conditions.")
