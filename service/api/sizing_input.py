@@ -71,6 +71,7 @@ def _load(reader: FieldReader, load: s.LoadIn) -> LoadSpec:
         voltage_v=_optional(reader, load.voltage, LOAD_VOLTAGE, "load", "voltage"),
         power_factor=load.power_factor,
         efficiency=load.efficiency,
+        third_harmonic_pct=load.third_harmonic_content,
     )
 
 
@@ -96,6 +97,7 @@ def _circuit(reader: FieldReader, c: s.CircuitIn) -> CircuitSpec:
                                              "soil_thermal_resistivity"),
         neutral=c.neutral,
         drop_temperature_basis=c.drop_temperature_basis or "maximum_operating",
+        parallel_sets=getattr(c, "parallel_sets", None) or 1,
     )
 
 
@@ -176,7 +178,7 @@ IEC_ONLY = (("circuit", "method"), ("circuit", "insulation"), ("circuit", "cable
             ("circuit", "ambient_medium"), ("circuit", "grouping"), ("circuit", "thermal_insulation_length"),
             ("circuit", "soil_thermal_resistivity"), ("protection", "device", "type"), ("protection", "rcd"),
             ("protection", "required_disconnection_time"), ("protection", "circuit_kind"),
-            ("protection", "let_through_energy"), ("protection", "device", "breaking_capacity"),
+            ("protection", "let_through_energy"), ("load", "third_harmonic_content"), ("protection", "device", "breaking_capacity"),
             ("protection", "device", "energy_class"), ("protection", "device", "fuse_system"),
             ("protective_conductor", "kind"), ("protective_conductor", "mechanically_protected"), ("supply", "u0"),
             ("supply", "earthing"), ("supply", "ze"),
@@ -185,7 +187,7 @@ IEC_ONLY = (("circuit", "method"), ("circuit", "insulation"), ("circuit", "cable
 NEC_ONLY = (("load", "continuous_share"), ("circuit", "conductor_type"), ("circuit", "insulation_rating"),
             ("circuit", "termination_rating"), ("circuit", "raceway"), ("circuit", "current_carrying_conductors"),
             ("circuit", "role"), ("circuit", "installation"), ("supply", "system"),
-            ("circuit", "parallel_raceways"), ("circuit", "parallel_sets"), ("protection", "interrupting_rating"),
+            ("circuit", "parallel_raceways"), ("protection", "interrupting_rating"),
             ("supply", "available_fault_current"))
 REGIME_NAMES = {"iec60364": "IEC 60364", "nec": "the NEC"}
 

@@ -88,7 +88,8 @@ def test_verify_reports_failures_as_a_200_verdict(client):
 
 
 def test_no_compliant_size_is_a_200(client):
-    body = ok(client.post(SIZE, json=request(circuit={"length": "5 km"})))
+    # 20 km: even four parallel sets of 300 mm² exceed the drop limit (5 km passes with 2 x 240 mm² in parallel)
+    body = ok(client.post(SIZE, json=request(circuit={"length": "20 km"})))
     assert body["verdict"] == "no_compliant_size" and body["chosen"] is None
     assert "voltage_drop" in body["binding_checks"] and body["ways_out"]
 
@@ -328,3 +329,36 @@ def test_issue_14_protection_fields_are_refused_where_they_do_not_apply(client):
         circuit={"size": "4 mm2"}, protection={"device": {"type": "B", "fuse_system": "bs88_2"}},
         protective_conductor={"mechanically_protected": True})), 422)
     assert {"/protection/device/fuse_system", "/protective_conductor/mechanically_protected"} <= pointers(body)
+
+
+def test_third_harmonic_content_sizes_on_the_neutral(client):
+    body = ok(client.post(SIZE, json=request(load={"phases": "three", "design_current": "39 A",
+                                                   "third_harmonic_content": 50}, circuit={"length": "10 m"})))
+    neutral = next(c for c in body["chosen"]["checks"] if c["name"] == "neutral_ampacity")
+    assert neutral["value"] == pytest.approx(3 * 0.5 * 39)  # IEC 60364-5-52 Annex E: IN = 3 h Ib
+    assert "Table E.52.1" in neutral["source"]
+    assert any(s["table_id"] == "iec60364-5-52-tableE52-1" for s in body["notes"]["sources"])
+    bad = problem(client.post(SIZE, json=request(load={"third_harmonic_content": 120})), 422)
+    assert "/load/third_harmonic_content" in pointers(bad)
+
+
+def test_parallel_sets_in_the_answer_and_in_verify(client):
+    feeder = {"load": {"phases": "three", "design_current": "600 A", "power_factor": 0.9},
+              "protection": {"device": {"type": "gG"}}, "supply": {"ze": "0.02 ohm"}}
+    sized = ok(client.post(SIZE, json=request(**feeder)))
+    # IEC 60364-5-52 523.7 / IEC 60364-4-43 433.4.1: two sets of 300 mm², Iz = 2 x 464 x 0.8 (hand calculation in
+    # tests/unit/test_sizing_extra.py)
+    assert sized["chosen"]["parallel_sets"] == 2 and sized["chosen"]["size_label"] == "300 mm²"
+    assert sized["rejected"][0]["parallel_sets"] == 1
+    verified = ok(client.post(VERIFY, json=request(**{**feeder, "circuit": {"size": "300 mm2", "parallel_sets": 2}})))
+    assert verified["verdict"] == "compliant" and verified["chosen"]["iz_a"] == pytest.approx(742.4)
+
+
+def test_iec_only_harmonics_are_refused_for_the_nec(client):
+    # Third-harmonic content is IEC 60364-5-52 Annex E's input; parallel_sets belongs to both regimes.
+    nec = {"regime": "nec", "load": {"design_current": "40 A", "continuous_share": 1.0,
+                                     "third_harmonic_content": 40},
+           "circuit": {"length": "100 ft", "raceway": "emt", "size": "6 AWG"},
+           "supply": {"system": "240V"}}
+    body = problem(client.post(VERIFY, json=nec), 422)
+    assert pointers(body) == {"/load/third_harmonic_content"}

@@ -230,3 +230,19 @@ def test_minimum_mode_raises_a_separate_protective_conductor_to_543_1_3():
     r = size_conductor(s)
     assert r.chosen.size_label == "1.5 mm²" and r.chosen.pe_size_label == "4 mm²"
     assert checks_of(r)["protective_conductor_minimum"].passes
+
+
+# -- an earth fault the device does not clear within 5 s decides the PE check --------------------------------
+
+def test_an_uncleared_far_end_fault_fails_the_pe_check_even_beside_a_larger_origin_energy():
+    # Type B 20 A: only 5 In = 100 A guarantees tripping (IEC 60898-1 Table 7, test e; below it the standard gives no
+    # time under 5 s). 110 m of 2.5 mm² at 70 °C (IEC 60228:2004 Table 2, 7.41 ohm/km): Zs = 0.35 + 2 x 110 x
+    # 7.41e-3 x 304.5 / 254.5 = 2.30 ohm, If = 0.95 x 230 / 2.30 = 95 A < 100 A: not cleared within 5 s, beyond the
+    # adiabatic formula (IEC 60364-4-43:2008 434.5.2, IEC 60364-5-54:2011 543.1.2). The origin's fault, derived from
+    # Ze on TN-C-S (722.9 A, cleared at once), carries more I²t; it must not hide the uncleared one.
+    s = spec(load=LoadSpec(design_current_a=20.0), circuit=CircuitSpec(length_m=110.0, method="C"),
+             protection=ProtectionSpec("B", 20.0), supply=SupplySpec(ze_ohm=0.35, earthing="TN-C-S"))
+    s = dataclasses.replace(s, limits=dataclasses.replace(s.limits, voltage_drop_pct=20.0))
+    pe = checks_of(verify_conductor(s, 2.5 * MM2))["protective_conductor_adiabatic"]
+    assert not pe.passes
+    assert "not cleared within 5 s" in pe.detail

@@ -362,3 +362,15 @@ def test_worked_example_annex_g_voltage_drop(phases, b, area, r20_ohm_per_km, le
     assert r.chosen.voltage_drop_v == pytest.approx(expected_v, rel=0.01)  # Annex G drops second-order terms
     # Zs = Ze + R1 + R2 at 70 °C (IEC 60364-6 practice), independent of the solver
     assert r.chosen.zs_ohm == pytest.approx(0.05 + 2 * r70 * length, rel=1e-9)
+
+
+def test_e52_1_and_b52_19_single_core_from_memory():
+    t = default_sizing_tables()
+    # IEC 60364-5-52:2009, Annex E, Table E.52.1 (from memory): 0-15 % line current x 1.0; 15-33 % line x 0.86;
+    # 33-45 % neutral current x 0.86; above 45 % neutral current x 1.0
+    assert [(b.above_pct, b.up_to_pct, b.size_on, b.factor) for b in t.harmonic_bands] == [
+        (0.0, 15.0, "line", 1.0), (15.0, 33.0, "line", 0.86), (33.0, 45.0, "neutral", 0.86),
+        (45.0, None, "neutral", 1.0)]
+    # IEC 60364-5-52:2009, Table B.52.19, single-core cables in single-way ducts (from memory)
+    assert [s.value for s in t.grouping_ducts_single_core["touching"]] == [0.8, 0.7, 0.65, 0.6, 0.6]
+    assert [s.value for s in t.grouping_ducts_single_core["1.0_m"]] == [0.95, 0.9, 0.9, 0.9, 0.9]

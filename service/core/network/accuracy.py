@@ -12,6 +12,10 @@
   so ||A|| cannot tell their rounding residue from a real value; ||M|| keeps
   the size of what was added, and ||A^-1|| ||M|| then shows the cancellation
   even when the whole matrix is that one residue (a 1 x 1 system).
+* ``current_rounding``: the uncertainty a current y (v_a - v_b) inherits from
+  the node voltages' own rounding, a few ulps of |v_a| + |v_b| times |y|: large
+  for a small impedance between two high node voltages, however exact the
+  solve (standard rounding-error analysis, common practice).
 * ``dependent_elements``: given a vector dominated by the null direction of a
   (nearly) singular system, the elements whose current or voltage it drives:
   the loop or node set whose current or voltage the equations leave undefined.
@@ -34,6 +38,19 @@ def refine(factor, matrix, rhs: np.ndarray, x: np.ndarray) -> np.ndarray:
     if not np.all(np.isfinite(step)):
         return x
     return x + step
+
+
+# Ulps of a node voltage a refined solve leaves (a few units in the last place, common practice).
+VOLTAGE_ULPS = 4.0
+
+
+def current_rounding(p: Primitives, x: np.ndarray) -> float:
+    """The largest absolute uncertainty of an admittance element's current from its node voltages' rounding."""
+    if not p.adm_y.size:
+        return 0.0
+    xe = np.append(np.abs(x[: p.n]), 0.0)
+    spread = np.abs(p.adm_y) * (xe[p.adm_a] + xe[p.adm_b])
+    return float(spread.max()) * VOLTAGE_ULPS * float(np.finfo(np.float64).eps)
 
 
 def stamp_norm(p: Primitives) -> float:

@@ -26,7 +26,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from . import model as m
-from .accuracy import dependent_elements, refine, stamp_norm
+from .accuracy import current_rounding, dependent_elements, refine, stamp_norm
 from .assemble import DenseStamps, SparseSystem, amax, dense_fits, rhs_vector, system_for
 from .errors import (
     ConvergenceError,
@@ -272,6 +272,11 @@ def _run(prep: PreparedNetwork, system, started: float) -> Solution:
         warnings.append(f"accuracy: the largest KCL residual is {kcl:.3g} A, {relative_kcl:.2g} of the largest "
                         f"element current (above the stated tolerance {ACCURACY_TOLERANCE:g}); values spanning many "
                         "orders of magnitude limit the digits that can be trusted")
+    spread = current_rounding(prims, x) / current_scale
+    if spread > ACCURACY_TOLERANCE:
+        warnings.append(f"accuracy: the current through an element with a small impedance between two high node "
+                        f"voltages is known only to about {spread:.2g} of the largest element current (its node "
+                        f"voltages' own rounding, amplified; above the stated tolerance {ACCURACY_TOLERANCE:g})")
     totals, balance, powers = power_totals(prims, layout, volts, amps)
 
     thevenin = ()

@@ -8,6 +8,7 @@ the remaining ones together, so a sizing needs one or two solves.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 from service.core.cable_impedance import REACTANCE_SOURCE, RESISTANCE_SOURCE, arrangement_for
@@ -35,27 +36,10 @@ from .checks import (
 from .circuit import Electrical
 from .model import Device, SizeEvaluation, SizingInput, SizingResult, Step
 from .regime import Capacity, Regime, iec60364
-from .search import governing_check, smallest_passing
+from . import harmonics, parallel, ways_out
+from .search import Search, governing_check, smallest_passing
 
 MM2 = 1.0e-6
-WAYS_OUT = {
-    "design_current_within_rating": "Choose a protective device rated at least the design current Ib.",
-    "ampacity": "Run conductors in parallel, choose a reference method that sheds heat better (clipped direct, free "
-                "air), reduce the grouping, or use XLPE/EPR insulation.",
-    "conventional_current": "Use a circuit-breaker (I2 = 1.45 In) instead of a gG fuse, or conductors in parallel.",
-    "voltage_drop": "Shorten the run, run conductors in parallel, feed the load three-phase, or move the point of "
-                    "supply closer; check the drop already used upstream.",
-    "earth_fault_loop": "Add an RCD (it disconnects at a far higher loop impedance), choose a device that trips "
-                        "instantaneously at a lower current (type B, or a lower rating), enlarge the protective "
-                        "conductor, or shorten the run.",
-    "protective_conductor_adiabatic": "Enlarge the protective conductor, or choose a device that clears faults faster "
-                                      "or limits the let-through energy.",
-    "line_conductor_adiabatic": "Choose a current-limiting device, or reduce the prospective fault current.",
-    "protective_conductor_minimum": "Use a separate protective conductor of at least the 543.1.3 minimum, or protect "
-                                    "it against mechanical damage (copper 2.5 mm² then suffices).",
-    "breaking_capacity": "Choose a device whose rated breaking capacity is at least the prospective fault current, or "
-                         "provide back-up protection by an upstream device (IEC 60364-4-43 434.5.1).",
-}
 
 
 _fail = calc_error
@@ -191,7 +175,7 @@ def context(spec: SizingInput, regime: Regime) -> tuple[Context, list[Step]]:
     rcd = None
     if spec.protection.rcd_residual_current_a is not None:
         rcd = ResidualCurrentDevice(spec.protection.rcd_residual_current_a)
-    factors = regime.correction_factors(c)
+    factors = regime.correction_factors(c) + harmonics.line_factor(harmonics.rule(spec, regime.t, ib))
     product = math.prod(f.value for f in factors)
     required_iz = max(device.rated_current_a, device.conventional_current_a / regime.overload_factor)
     drop = regime.drop_limit(spec.limits, c.length_m)
@@ -267,7 +251,7 @@ def _assumptions(ctx: Context) -> tuple[str, ...]:
         f"Prospective fault current at the origin: {origin_fault_current(ctx.spec)[1]}.",
         "Correction factors between tabulated rows take the next worse row (conservative).",
         "A service-chosen gG rating is the smallest standard rating with IEC 60269-1 gates held (16 A and up).",
-        "Harmonic currents in the neutral (IEC 60364-5-52 Annex E) are not considered.",
+        harmonics.assumption(ctx.spec, harmonics.rule(ctx.spec, ctx.regime.t, ctx.design_current_a)),
     )
 
 
@@ -332,11 +316,14 @@ def _governing(rejected: list[SizeEvaluation]) -> str | None:
 
 
 def _result(ctx: Context, mode: str, verdict: str, chosen: SizeEvaluation | None, rejected: list[SizeEvaluation],
-            governing: str | None, binding: tuple[str, ...], steps: list[Step], solves: int) -> SizingResult:
+            governing: str | None, binding: tuple[str, ...], steps: list[Step], solves: int,
+            ways: tuple[str, ...] = ()) -> SizingResult:
     if chosen is not None:
+        per = " per set" if chosen.parallel_sets > 1 else ""
         steps = steps + [
-            Step("Chosen size: tabulated capacity It", chosen.capacity_basis, chosen.tabulated_capacity_a, "A"),
-            Step("Chosen size: Iz", "Iz = It x product of factors", chosen.iz_a, "A"),
+            Step(f"Chosen size: tabulated capacity It{per}", chosen.capacity_basis, chosen.tabulated_capacity_a, "A"),
+            Step("Chosen size: Iz", "Iz = It x product of factors" + (f" x {chosen.parallel_sets} sets" if per else ""),
+                 chosen.iz_a, "A", parallel.SOURCE if per else ""),
         ]
         if chosen.total_drop_pct is not None:
             steps.append(Step("Chosen size: voltage drop", "solved network, U0 - Re(V at the load)", chosen.voltage_drop_v,
@@ -348,7 +335,9 @@ def _result(ctx: Context, mode: str, verdict: str, chosen: SizeEvaluation | None
                                   f"{RESISTANCE_SOURCE}; {REACTANCE_SOURCE}"))
             steps.append(Step("Chosen size: Zs", "Thevenin impedance of the loop, Ze + R1 + R2", chosen.zs_ohm, "ohm",
                               "service.core.network"))
-    ways = tuple(WAYS_OUT[name] for name in CHECK_ORDER if name in binding)
+    cautions = _cautions(ctx) + harmonics.cautions(ctx.spec, harmonics.rule(ctx.spec, ctx.regime.t, ctx.design_current_a))
+    if chosen is not None and chosen.parallel_sets > 1:
+        cautions += parallel.cautions(ctx.spec, chosen)
     return SizingResult(
         mode=mode, regime=ctx.regime.name, verdict=verdict, design_current_a=ctx.design_current_a, device=ctx.device,
         factors=ctx.factors, factor_product=ctx.factor_product, required_tabulated_a=ctx.required_iz_a / ctx.factor_product,
@@ -358,47 +347,146 @@ def _result(ctx: Context, mode: str, verdict: str, chosen: SizeEvaluation | None
         disconnection_time_s=ctx.disconnection_time_s,
         disconnection_source=next(s.formula for s in steps if s.name == "Required disconnection time"),
         chosen=chosen, governing_check=governing, rejected=tuple(rejected), binding_checks=binding, ways_out=ways,
-        steps=tuple(steps), assumptions=_assumptions(ctx),
-        cautions=_cautions(ctx) + tuple(f"Not assessed, so not passed: {n.name}: {n.reason}."
-                                        for n in (chosen.not_assessed if chosen is not None else ())),
+        steps=tuple(steps), assumptions=_assumptions(ctx) + parallel.assumptions(chosen),
+        cautions=cautions + tuple(f"Not assessed, so not passed: {n.name}: {n.reason}."
+                                  for n in (chosen.not_assessed if chosen is not None else ())),
         table_ids=_table_ids(ctx), solves=solves,
         drop_temperature_basis=ctx.spec.circuit.drop_temperature_basis,
     )
 
 
+def _evaluator(ctx: Context, sets: int = 1):
+    """evaluate() with the harmonic neutral check and, for parallel sets, the per-set figures."""
+    rule = harmonics.rule(ctx.spec, ctx.regime.t, ctx.design_current_a)
+    density, _ = ctx.regime.metal_density(ctx.spec.circuit.material)
+
+    def run(batch, with_network: bool) -> tuple[list[SizeEvaluation], int]:
+        found, solves = evaluate(ctx, list(batch), with_network)
+        found = harmonics.with_neutral_check(rule, found)
+        if sets > 1:
+            found = [parallel.finish(ev, cap, sets, ctx.live_conductors, density, ctx.spec.circuit.length_m,
+                                     ctx.spec.protective_conductor.mode) for ev, (_, cap) in zip(found, batch)]
+        return found, solves
+    return run
+
+
+def _parallel_context(spec: SizingInput, regime: Regime, sets: int) -> tuple[Context, list[Step]] | None:
+    """The context of ``sets`` parallel sets (each a circuit of the group), None where the tables stop."""
+    try:
+        ctx, steps = context(parallel.grouped_spec(spec, sets), regime)
+    except CalcError as exc:
+        if parallel.usable(exc):
+            return None
+        raise
+    e = ctx.electrical
+    ctx = dataclasses.replace(ctx, electrical=dataclasses.replace(e, reactance_ohm_per_m=e.reactance_ohm_per_m / sets),
+                              pe_for=parallel.pe_rule(ctx.pe_for, sets, spec.protective_conductor.mode))
+    steps.append(Step("Parallel sets", f"{sets} equal sets, each counted as a circuit of the group "
+                      f"({ctx.spec.circuit.grouped_circuits} circuits); Iz = sum of the sets", sets, "1", parallel.SOURCE))
+    return ctx, steps
+
+
+@dataclasses.dataclass(frozen=True, slots=True)
+class _Found:
+    ctx: Context
+    steps: list[Step]
+    search: Search
+    rejected: list[SizeEvaluation]  # every candidate tried below the chosen one, single conductors first
+    solves: int
+
+
+def _search(spec: SizingInput, regime: Regime) -> _Found:
+    """The smallest single size that passes; when none does, the fewest parallel sets of the smallest size."""
+    ctx, steps = context(spec, regime)
+    found = smallest_passing(_sizes(ctx), _evaluator(ctx))
+    rejected, solves = list(found.rejected), found.solves
+    if found.chosen is not None:
+        return _Found(ctx, steps, found, rejected, solves)
+    last = _Found(ctx, steps, found, rejected, solves)
+    for sets in range(2, parallel.MAX_SETS + 1):
+        attempt = _parallel_context(spec, regime, sets)
+        if attempt is None:
+            break
+        ctx_n, steps_n = attempt
+        offered = parallel.candidates(_sizes(ctx_n), sets, spec.circuit.material)
+        if not offered:
+            break
+        found_n = smallest_passing(offered, _evaluator(ctx_n, sets))
+        rejected += found_n.rejected
+        solves += found_n.solves
+        last = _Found(ctx_n if found_n.chosen is not None else ctx, steps_n if found_n.chosen is not None else steps,
+                      found_n, rejected, solves)
+        if found_n.chosen is not None:
+            break
+    return last
+
+
 def size_conductor(spec: SizingInput, regime: Regime | None = None) -> SizingResult:
     """The smallest size that passes every check, every smaller size with the check it fails."""
     regime = regime or iec60364()
-    ctx, steps = context(spec, regime)
-    sizes = _sizes(ctx)
-    found = smallest_passing(sizes, lambda batch, with_network: evaluate(ctx, list(batch), with_network))
-    table_only, chosen, rejected, solves = found.table_only, found.chosen, list(found.rejected), found.solves
+    f = _search(spec, regime)
+    ctx, steps, chosen, rejected = f.ctx, f.steps, f.search.chosen, f.rejected
     if chosen is not None:
-        ampacity_size = next(ev for ev in table_only if ev.passes)
+        ampacity_size = next((ev for ev in f.search.table_only if ev.passes), chosen)
         if ampacity_size.size_label != chosen.size_label:
-            forced = sorted({n for ev in rejected for n in ev.failing if n not in THERMAL_CHECKS},
+            forced = sorted({n for ev in f.search.rejected for n in ev.failing if n not in THERMAL_CHECKS},
                             key=CHECK_ORDER.index)
             steps.append(Step(f"Size forced up from {ampacity_size.size_label} by {', '.join(forced)}",
                               f"{ampacity_size.size_label} meets the current-carrying checks but fails "
                               f"{', '.join(forced)}", chosen.area_m2 / MM2, "mm²"))
         governing = _governing(rejected) or "smallest_listed_size"
-        return _result(ctx, "size", "compliant", chosen, rejected, governing, (), steps, solves)
+        return _result(ctx, "size", "compliant", chosen, rejected, governing, (), steps, f.solves)
     largest = rejected[-1]
     binding = tuple(n for n in CHECK_ORDER if n in largest.failing)
-    return _result(ctx, "size", "no_compliant_size", None, rejected, binding[0], binding, steps, solves)
+    steps.append(Step("Parallel sets tried", f"up to {parallel.MAX_SETS} sets of {parallel.MIN_SET_AREA_MM2[spec.circuit.material]:g} "
+                      f"mm² and up, where the grouping tables reach; none passes", largest.parallel_sets, "1", parallel.SOURCE))
+    ways = ways_out.suggest(ctx, "size", largest, binding, _Tools(regime, spec))
+    return _result(ctx, "size", "no_compliant_size", None, rejected, binding[0], binding, steps, f.solves, ways)
 
 
-def verify_conductor(spec: SizingInput, area_m2: float, regime: Regime | None = None) -> SizingResult:
-    """Every check on the size given: a verdict, never an exception, for a size that does not comply."""
-    regime = regime or iec60364()
-    ctx, steps = context(spec, regime)
+def evaluate_size(spec: SizingInput, area_m2: float, regime: Regime, sets: int = 1
+                  ) -> tuple[Context, list[Step], SizeEvaluation, int]:
+    """Every check on one size (of ``sets`` parallel sets), one solve."""
+    if sets > 1:
+        attempt = _parallel_context(spec, regime, sets)
+        if attempt is None:
+            raise _fail("outside-table", f"The grouping tables do not reach {sets} parallel sets in this group.",
+                        "Give fewer sets, or a smaller group.", (("circuit", "parallel_sets"), "grouping out of table"))
+        ctx, steps = attempt
+    else:
+        ctx, steps = context(spec, regime)
     line = regime.conductor(area_m2, spec.circuit.material)
     capacity = regime.tabulated_capacity(spec.circuit, ctx.loaded, line.area_m2)
     if capacity is None:
         raise _fail("no-data", f"No tabulated capacity for {line.size_label} {spec.circuit.material} by method "
                     f"{spec.circuit.method} with {ctx.loaded} loaded conductors.",
                     "Choose a size the method's table lists.", (("circuit", "size"), "no tabulated capacity"))
-    (ev,), solves = evaluate(ctx, [(line, capacity)], with_network=True)
+    batch = [(line, capacity) if sets == 1 else parallel.as_sets(line, capacity, sets)]
+    (ev,), solves = _evaluator(ctx, sets)(batch, True)
+    return ctx, steps, ev, solves
+
+
+class _Tools:
+    """What ways_out may run: the size search and a verification, under the request's conditions."""
+
+    def __init__(self, regime: Regime, spec: SizingInput) -> None:
+        self.regime, self.spec = regime, spec
+
+    def smallest(self, spec: SizingInput) -> SizeEvaluation | None:
+        return _search(spec, self.regime).search.chosen
+
+    def verify(self, spec: SizingInput, area_m2: float, sets: int) -> SizeEvaluation:
+        return evaluate_size(spec, area_m2, self.regime, sets)[2]
+
+
+def verify_conductor(spec: SizingInput, area_m2: float, regime: Regime | None = None, sets: int | None = None
+                     ) -> SizingResult:
+    """Every check on the size given (in ``sets`` parallel sets, default the circuit's): a verdict, never an
+    exception, for a size that does not comply."""
+    regime = regime or iec60364()
+    sets = spec.circuit.parallel_sets if sets is None else sets
+    ctx, steps, ev, solves = evaluate_size(spec, area_m2, regime, sets)
     failing = tuple(n for n in CHECK_ORDER if n in ev.failing)
     verdict = "compliant" if ev.passes else "non_compliant"
-    return _result(ctx, "verify", verdict, ev, [], failing[0] if failing else None, failing, steps, solves)
+    ways = ways_out.suggest(ctx, "verify", ev, failing, _Tools(regime, spec)) if failing else ()
+    return _result(ctx, "verify", verdict, ev, [], failing[0] if failing else None, failing, steps, solves, ways)

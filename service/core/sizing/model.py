@@ -40,6 +40,7 @@ class LoadSpec:
     voltage_v: float | None = None  # line-to-neutral (single-phase) or line-to-line (three-phase); default from U0
     power_factor: float = 1.0
     efficiency: float = 1.0
+    third_harmonic_pct: float | None = None  # third-harmonic content of the line current (IEC 60364-5-52 Annex E)
 
 
 @dataclass(frozen=True, slots=True)
@@ -63,6 +64,7 @@ class CircuitSpec:
     # The conductor temperature of the voltage drop: the insulation's maximum (conservative), or estimated from the
     # load, theta = theta_a + (theta_max - theta_a) (Ib / Iz)^2.  The earth-fault loop stays at the maximum.
     drop_temperature_basis: DropTemperatureBasis = "maximum_operating"
+    parallel_sets: int = 1  # verify: the size given runs in this many equal parallel sets (523.7)
 
 
 @dataclass(frozen=True, slots=True)
@@ -116,7 +118,7 @@ class SizingInput:
 
 @dataclass(frozen=True, slots=True)
 class Factor:
-    name: str  # "ambient", "grouping", "thermal_insulation", "soil"
+    name: str  # "ambient", "grouping", "thermal_insulation", "soil", "harmonics" (IEC 60364-5-52 Table E.52.1)
     value: float
     basis: str
     source: str

@@ -28,6 +28,7 @@ from .tables import (
     GROUPING_AIR_TABLE,
     GROUPING_DIRECT_TABLE,
     GROUPING_DUCT_TABLE,
+    GROUPING_DUCT_SINGLE_CORE_TABLE,
     INSULATION_TABLE,
     INSULATION_TABLE_UP_TO_MM2,
     MM2,
@@ -305,9 +306,14 @@ class Iec60364Regime:
         if c.method in BURIED_METHODS:
             if n == 1:
                 return Factor("grouping", 1.0, "one circuit", "no reduction for a single circuit", None)
-            table_id = GROUPING_DIRECT_TABLE if c.method == "D2" else GROUPING_DUCT_TABLE
-            steps = (self.t.grouping_direct if c.method == "D2" else self.t.grouping_ducts)[c.spacing]
-            where = f"{n} circuits buried, spacing {c.spacing.replace('_', ' ')}"
+            if c.method == "D2":
+                table_id, steps, cables = GROUPING_DIRECT_TABLE, self.t.grouping_direct[c.spacing], ""
+            elif c.cable == "single_core":  # Table B.52.19, single-core cables in single-way ducts
+                table_id, steps = GROUPING_DUCT_SINGLE_CORE_TABLE, self.t.grouping_ducts_single_core[c.spacing]
+                cables = ", single-core cables in single-way ducts"
+            else:  # Table B.52.19, multicore cables in single-way ducts
+                table_id, steps, cables = GROUPING_DUCT_TABLE, self.t.grouping_ducts[c.spacing], ", multicore cables in ducts"
+            where = f"{n} circuits buried{cables}, spacing {c.spacing.replace('_', ' ')}"
         else:
             table_id = GROUPING_AIR_TABLE
             arrangement = c.arrangement if n > 1 else ("single_layer_ceiling" if c.arrangement == "single_layer_ceiling" else "bunched")

@@ -45,7 +45,10 @@ SOIL_REFERENCE_K_M_PER_W = 2.5  # Table B.52.16 title: resistivities other than 
 GROUPING_AIR_TABLE = "iec60364-5-52-tableB52-17"
 GROUPING_DIRECT_TABLE = "iec60364-5-52-tableB52-18"
 GROUPING_DUCT_TABLE = "iec60364-5-52-tableB52-19"
+# The single-core part of Table B.52.19 (each single-core cable in its own duct), one file of its own.
+GROUPING_DUCT_SINGLE_CORE_TABLE = "iec60364-5-52-tableB52-19-single-core"
 INSULATION_TABLE = "bs7671-table52-2"
+HARMONIC_TABLE = "iec60364-5-52-tableE52-1"
 INSULATION_TABLE_UP_TO_MM2 = 10.0  # BS 7671 Table 52.2 heading: conductors up to 10 mm²
 DROP_TABLE = "iec60364-5-52-tableG52-1"
 PE_TABLE = "iec60364-5-54-table54-2"
@@ -209,6 +212,18 @@ def _grouping_buried(table: DataTable) -> dict[str, tuple[StepFactor, ...]]:
     return found
 
 
+def _single_core_not_better(single: dict[str, tuple[StepFactor, ...]], multi: dict[str, tuple[StepFactor, ...]]) -> None:
+    """Table B.52.19: single-core circuits in ducts never group better than multicore cables at the same spacing."""
+    if set(single) != set(multi):
+        _fail(GROUPING_DUCT_SINGLE_CORE_TABLE, f"spacings must be those of {GROUPING_DUCT_TABLE}")
+    for spacing, steps in single.items():
+        by_n = {s.upto: s.value for s in multi[spacing]}
+        for s in steps:
+            if s.upto not in by_n or s.value > by_n[s.upto]:
+                _fail(GROUPING_DUCT_SINGLE_CORE_TABLE, f"{spacing}, {s.upto:g} circuits: must be a row of "
+                                                       f"{GROUPING_DUCT_TABLE} and not above its factor")
+
+
 def _drop_limits(table: DataTable) -> dict[str, tuple[float, float]]:
     limits = {}
     for r in table.records():
@@ -221,6 +236,33 @@ def _drop_limits(table: DataTable) -> dict[str, tuple[float, float]]:
     if not all(a <= b for a, b in zip(limits["A_public_lv"], limits["B_private_lv"])):
         _fail(table.table_id, "a private supply (type B) must allow at least the public supply's (type A) drop")
     return limits
+
+
+@dataclass(frozen=True, slots=True)
+class HarmonicBand:
+    """Table E.52.1: third-harmonic content in (above_pct, up_to_pct] sizes on ``size_on`` with ``factor``."""
+
+    above_pct: float
+    up_to_pct: float | None
+    size_on: str  # "line": the line current; "neutral": the neutral current 3 x content x line current
+    factor: float
+
+
+def _harmonic_bands(table: DataTable) -> tuple[HarmonicBand, ...]:
+    bands = tuple(HarmonicBand(float(r["content_above_pct"]), None if r["content_up_to_pct"] is None
+                               else float(r["content_up_to_pct"]), str(r["size_on"]), r["factor"])
+                  for r in table.records())
+    if bands[0].above_pct != 0 or bands[-1].up_to_pct is not None or bands[0].factor != 1.0:
+        _fail(table.table_id, "bands must start at 0 % with a factor of 1 and end open")
+    for below, above in zip(bands, bands[1:]):
+        if below.up_to_pct != above.above_pct:
+            _fail(table.table_id, "bands must be contiguous")
+    for b in bands:
+        if b.size_on not in ("line", "neutral") or not (_positive(b.factor) and b.factor <= 1.0):
+            _fail(table.table_id, "each band sizes on the line or the neutral current with a factor in (0, 1]")
+    if [b.size_on for b in bands] != sorted((b.size_on for b in bands), key=("line", "neutral").index):
+        _fail(table.table_id, "bands on the line current must come before bands on the neutral current")
+    return bands
 
 
 @dataclass(frozen=True, slots=True)
@@ -291,7 +333,7 @@ class SizingTables:
 
     def __init__(self, tables: dict[str, DataTable]) -> None:
         wanted = (*ENCLOSED_TABLES, *FREE_AIR_TABLES, *(t for t, _ in AMBIENT_TABLES.values()), SOIL_TABLE,
-                  GROUPING_AIR_TABLE, GROUPING_DIRECT_TABLE, GROUPING_DUCT_TABLE, INSULATION_TABLE, DROP_TABLE, PE_TABLE,
+                  GROUPING_AIR_TABLE, GROUPING_DIRECT_TABLE, GROUPING_DUCT_TABLE, GROUPING_DUCT_SINGLE_CORE_TABLE, INSULATION_TABLE, HARMONIC_TABLE, DROP_TABLE, PE_TABLE,
                   BREAKER_CONVENTIONAL_TABLE, FUSE_CONVENTIONAL_TABLE, *DENSITY_TABLES, GEOMETRY_TABLE)
         self.tables = {t: tables[t] for t in wanted}
         columns: list[CapacityColumn] = []
@@ -313,9 +355,12 @@ class SizingTables:
         self.grouping_air = _grouping_air(tables[GROUPING_AIR_TABLE])
         self.grouping_direct = _grouping_buried(tables[GROUPING_DIRECT_TABLE])
         self.grouping_ducts = _grouping_buried(tables[GROUPING_DUCT_TABLE])
+        self.grouping_ducts_single_core = _grouping_buried(tables[GROUPING_DUCT_SINGLE_CORE_TABLE])
+        _single_core_not_better(self.grouping_ducts_single_core, self.grouping_ducts)
         self.insulation = _steps(tables[INSULATION_TABLE], "length_in_insulation_mm", "factor", None, falling=True)
         if not all(s.value < 1.0 for s in self.insulation):
             _fail(INSULATION_TABLE, "every thermal insulation factor must be below 1")
+        self.harmonic_bands = _harmonic_bands(tables[HARMONIC_TABLE])
         self.drop_limits = _drop_limits(tables[DROP_TABLE])
         self.pe_bands = _pe_bands(tables[PE_TABLE])
         self.breaker_conventional = _breaker_conventional(tables[BREAKER_CONVENTIONAL_TABLE])

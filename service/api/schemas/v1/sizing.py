@@ -63,6 +63,11 @@ class LoadIn(Strict):
         "power S (VA) gives Ib = S / U, or S / (√3 U), whatever cos φ is."))] = 1.0
     efficiency: Annotated[Fraction, Meta(description=(
         "When the power given is the output (a motor's shaft power, in W); not with an apparent power."))] = 1.0
+    third_harmonic_content: Annotated[Annotated[float, Meta(ge=0.0, le=100.0)] | None, Meta(description=(
+        f"{IEC}: third-harmonic content of the line current, in %. Three-phase circuits with a neutral: the neutral "
+        "carries 3 x content x Ib, and IEC 60364-5-52 Annex E Table E.52.1 derates the cable (15 to 33 %: factor "
+        "0.86 on the line current) or sizes it on the neutral current (above 33 %: check neutral_ampacity). "
+        "Default: not given, taken below 15 % (no reduction), said in the assumptions."))] = None
     continuous_share: Annotated[Annotated[float, Meta(ge=0.0, le=1.0)] | None, Meta(description=(
         f"{NEC}: the share of the load that is continuous (maximum current for 3 h or more); conductor and device "
         "are sized for 125 % of it plus 100 % of the rest (210.19(A), 215.2). Default 1 (all continuous)."))] = None
@@ -135,8 +140,9 @@ class CircuitIn(Strict):
 class VerifyCircuitIn(CircuitIn, kw_only=True):
     size: ConductorSizeField
     parallel_sets: Annotated[Annotated[int, Meta(ge=1, le=20)] | None, Meta(description=(
-        f"{NEC}: conductors in parallel per line, each of the size given (310.10(G): 1/0 AWG and larger when more "
-        "than one). Default 1."))] = None
+        "Conductors in parallel per line, each of the size given. IEC 60364: equal sets of the same size, material, "
+        "length and route (IEC 60364-5-52 523.7), each counted as a circuit of the group. NEC: 310.10(G), 1/0 AWG and "
+        "larger when more than one. Default 1."))] = None
 
 
 class DeviceIn(Strict):
@@ -274,7 +280,8 @@ class NotAssessedOut(Out):
 class SizeOut(Out):
     size_label: Annotated[str, Meta(description="One conductor's size (of each set, when parallel_sets > 1).")]
     parallel_sets: Annotated[int, Meta(description=(
-        "Conductors in parallel per line (NEC 310.10(G)); 1 for a single conductor."))]
+        "Conductor sets in parallel per line (IEC 60364-5-52 523.7; NEC 310.10(G)); 1 for a single conductor. Size, "
+        "area and tabulated capacity are per set; Iz, R1, R2, Zs, the drop and the mass are of the whole run."))]
     area_m2: float
     protective_conductor_size_label: str
     protective_conductor_area_m2: float
