@@ -320,3 +320,18 @@ def test_a_gg_fault_between_the_gates_clears_in_its_band_time_so_the_pe_passes()
     slope = math.log(0.1 / 5.0) / math.log(19000 / 7000)
     expected_t = 5.0 * (fault / 7000) ** slope
     assert pe.passes and pe.value == pytest.approx(fault**2 * expected_t, rel=1e-6)
+
+
+def test_parallel_sets_divide_one_conductors_ac_resistance_and_reactance():
+    # Equal parallel conductors (IEC 60364-5-52 523.7): the run's series impedance is one conductor's over the sets
+    # (impedances in parallel, common practice). The skin effect and the reactance are one real conductor's
+    # (IEC 60287-1-1 2.1.2: ys depends on that conductor's own R'), not those of a fictitious conductor of R / 2.
+    s = spec(load=LoadSpec(phases="three", design_current_a=300.0, power_factor=0.85),
+             circuit=CircuitSpec(length_m=60.0, method="F", cable="single_core", formation="flat_spaced",
+                                 insulation="xlpe_epr_90"),
+             protection=ProtectionSpec("gG", 315.0, required_time_s=5.0, breaking_capacity_a=80_000.0))
+    one = verify_conductor(s, 185 * 1e-6, sets=1).chosen.line_impedance
+    two = verify_conductor(s, 185 * 1e-6, sets=2).chosen.line_impedance
+    assert two.r_ohm_per_m == pytest.approx(one.r_ohm_per_m / 2, rel=1e-9)
+    assert two.x_ohm_per_m == pytest.approx(one.x_ohm_per_m / 2, rel=1e-9)
+    assert two.skin_ys == pytest.approx(one.skin_ys, rel=1e-12)

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from service.core.conductors import Conductor
 from service.core.errors import Blame, CalcError
@@ -85,6 +85,7 @@ class Context:
     pe_for: Callable[[Conductor], tuple[Conductor, str]]
     live_conductors: int
     drop_ambient_c: float | None = None  # set: the drop's conductor temperature is estimated from the load
+    parallel_sets: int = 1  # > 1: each size is that many equal sets, its Conductor the run's (R / sets)
 
 
 def drop_temperature_c(ctx: Context, iz_a: float) -> float:
@@ -343,6 +344,20 @@ def electrical(ctx: Context, line: Conductor, pe: Conductor, run: RunSolution) -
                            "not_assessed": tuple(not_assessed)}
 
 
+def run_impedance(ctx: Context, line: Conductor, temperature_c: float):
+    """The line impedance of the run: one conductor's (AC resistance, arrangement reactance) over the sets.
+
+    A parallel run's Conductor already carries R / sets; the skin and proximity effects and the reactance are
+    those of one real conductor, so it is taken back to one conductor, and R and X then divided by the sets."""
+    sets, c = ctx.parallel_sets, ctx.spec.circuit
+    if sets == 1:
+        return ctx.regime.line_impedance(c, line, ctx.loaded, temperature_c, ctx.electrical.frequency_hz)
+    one = replace(line, resistance_ohm_per_m=line.resistance_ohm_per_m * sets)
+    z = ctx.regime.line_impedance(c, one, ctx.loaded, temperature_c, ctx.electrical.frequency_hz)
+    return replace(z, r_dc_ohm_per_m=z.r_dc_ohm_per_m / sets, r_ohm_per_m=z.r_ohm_per_m / sets,
+                   x_ohm_per_m=z.x_ohm_per_m / sets, x_geometric_ohm_per_m=z.x_geometric_ohm_per_m / sets)
+
+
 def evaluate(ctx: Context, sizes: list[tuple[Conductor, Capacity]], with_network: bool) -> tuple[list[SizeEvaluation], int]:
     """Every check on each size; network checks only where ``with_network`` (one solve for all of them)."""
     e = ctx.electrical
@@ -352,9 +367,8 @@ def evaluate(ctx: Context, sizes: list[tuple[Conductor, Capacity]], with_network
     solves = 0
     if with_network and sizes:
         c = ctx.spec.circuit
-        impedances = [ctx.regime.line_impedance(c, line, ctx.loaded,
-                                                drop_temperature_c(ctx, cap.value_a * ctx.factor_product),
-                                                e.frequency_hz) for line, cap in sizes]
+        impedances = [run_impedance(ctx, line, drop_temperature_c(ctx, cap.value_a * ctx.factor_product))
+                      for line, cap in sizes]
         # The drop with the arrangement's AC impedance; the loop with the DC resistance at the maximum temperature.
         runs = list(solve_runs([RunCase(line, pe, z.r_ohm_per_m, z.x_ohm_per_m,
                                         line.resistance_per_m_at(e.temperature_c))

@@ -249,6 +249,9 @@ def _assumptions(ctx: Context) -> tuple[str, ...]:
         + ", for Ia at the required time and for clearing times; published characteristics are convex in log-log, "
         "so the chord is on the slow, conservative side (common practice).",
         f"Prospective fault current at the origin: {origin_fault_current(ctx.spec)[1]}.",
+        "Short circuits further along the run (smaller currents, longer clearing): the line conductors' protection "
+        "is taken as assured by the same device's overload protection where it meets 433.1 and its breaking capacity "
+        "holds (IEC 60364-4-43:2008, 435.1); the far-end earth fault is checked for the protective conductor.",
         "Correction factors between tabulated rows take the next worse row (conservative).",
         "A service-chosen gG rating is the smallest standard rating with IEC 60269-1 gates held (16 A and up).",
         harmonics.assumption(ctx.spec, harmonics.rule(ctx.spec, ctx.regime.t, ctx.design_current_a)),
@@ -380,7 +383,8 @@ def _parallel_context(spec: SizingInput, regime: Regime, sets: int) -> tuple[Con
         raise
     e = ctx.electrical
     ctx = dataclasses.replace(ctx, electrical=dataclasses.replace(e, reactance_ohm_per_m=e.reactance_ohm_per_m / sets),
-                              pe_for=parallel.pe_rule(ctx.pe_for, sets, spec.protective_conductor.mode))
+                              pe_for=parallel.pe_rule(ctx.pe_for, sets, spec.protective_conductor.mode),
+                              parallel_sets=sets)
     steps.append(Step("Parallel sets", f"{sets} equal sets, each counted as a circuit of the group "
                       f"({ctx.spec.circuit.grouped_circuits} circuits); Iz = sum of the sets", sets, "1", parallel.SOURCE))
     return ctx, steps
