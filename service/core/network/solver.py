@@ -287,7 +287,9 @@ def _run(prep: PreparedNetwork, system, started: float) -> Solution:
         zth = thevenin_impedances(factor, size, pairs, prims.dtype)
         voc = port_values(x, pairs)
         loads = np.array([isinstance(e, m.Load) for e in network.elements], dtype=bool)
-        thevenin = equivalents(options.thevenin_between, voc, zth, source_side_impedances(prims, loads, pairs))
+        # Without load elements the source-side loop is the Thevenin impedance itself: no second solve.
+        source = source_side_impedances(prims, loads, pairs) if loads.any() else [complex(z) for z in zth]
+        thevenin = equivalents(options.thevenin_between, voc, zth, source)
 
     numbers = [kcl, balance, mismatch if mismatch is not None else 0.0, *vars_of(totals)]
     for t in thevenin:

@@ -103,6 +103,15 @@ def k_factor(
     require_choice(role, ROLES, ("role",), "conductor role")
     if area_m2 is not None:
         require_positive(area_m2, ("area",), "the conductor area")
+    # A sizing asks for the same few k values for every candidate size: each library keeps those it has found.
+    key = (material, insulation, role, _band_for(area_m2))
+    memo = lib.__dict__.setdefault("_k_memo", {})
+    if key not in memo:
+        memo[key] = _find_k(lib, material, insulation, role, area_m2)
+    return memo[key]
+
+
+def _find_k(lib: ProtectionLibrary, material: str, insulation: str, role: ConductorRole, area_m2: float | None) -> KFactor:
     rows: tuple[KValue, ...] = lib.k_values[role]
     candidates = [v for v in rows if v.material == material and v.insulation == insulation]
     if not candidates:

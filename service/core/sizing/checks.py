@@ -295,7 +295,15 @@ def breaking_rating(ctx: Context) -> tuple[float, str]:
                    "confirm it on the device")
 
 
-def electrical(ctx: Context, line: Conductor, pe: Conductor, run: RunSolution) -> tuple[tuple[Check, ...], dict]:
+def origin_energies(ctx: Context) -> tuple[FaultEnergy | NotAssessed, FaultEnergy | NotAssessed]:
+    """The faults at the origin, the same for every size: (earth fault for the PE, short circuit for the line)."""
+    return (origin_energy(ctx, "protective_conductor_adiabatic", earth_fault=True),
+            origin_energy(ctx, "line_conductor_adiabatic", earth_fault=False))
+
+
+def electrical(ctx: Context, line: Conductor, pe: Conductor, run: RunSolution,
+               origin: tuple[FaultEnergy | NotAssessed, FaultEnergy | NotAssessed] | None = None
+               ) -> tuple[tuple[Check, ...], dict]:
     spec = ctx.spec
     u0 = spec.supply.u0_v
     drop_pct = 100.0 * run.drop_v / u0
@@ -330,13 +338,12 @@ def electrical(ctx: Context, line: Conductor, pe: Conductor, run: RunSolution) -
 
     role, insulation, _ = pe_role(ctx)
     far = fault_energy(ctx, "far end (earth fault)", fault.fault_current_a)
-    near_earth = origin_energy(ctx, "protective_conductor_adiabatic", earth_fault=True)
+    near_earth, near_line = origin or origin_energies(ctx)
     energies = [far] if isinstance(near_earth, NotAssessed) else [far, near_earth]
     add(*_adiabatic(ctx, "protective_conductor_adiabatic", pe.area_m2, role, insulation, energies))
     if isinstance(near_earth, NotAssessed):  # the far-end fault was checked; the one at the origin was not
         add(NotAssessed(near_earth.name, f"the earth fault at the origin: {near_earth.reason}"))
     add(protective_conductor_minimum(ctx, pe))
-    near_line = origin_energy(ctx, "line_conductor_adiabatic", earth_fault=False)
     add(*([near_line] if isinstance(near_line, NotAssessed) else
           _adiabatic(ctx, "line_conductor_adiabatic", line.area_m2, "live", spec.circuit.insulation, [near_line])))
     add(breaking_capacity(ctx))
@@ -376,11 +383,12 @@ def evaluate(ctx: Context, sizes: list[tuple[Conductor, Capacity]], with_network
         solves = 1
     density, _ = ctx.regime.metal_density(ctx.spec.circuit.material)
     found = []
+    origin = origin_energies(ctx) if with_network and sizes else None
     for (line, capacity), (pe, _), run, z in zip(sizes, pes, runs, impedances):
         iz, checks = thermal(ctx, capacity)
         extra = {"drop_pct": None, "total": None, "fault_current": None, "not_assessed": ()}
         if run is not None:
-            more, extra = electrical(ctx, line, pe, run)
+            more, extra = electrical(ctx, line, pe, run, origin)
             checks = checks + more
         mass = density * e.length_m * (ctx.live_conductors * line.area_m2 + pe.area_m2)
         found.append(SizeEvaluation(
