@@ -48,6 +48,10 @@ class Settings:
     """Most appliances on one lead chain; more gets 422 naming /appliances."""
     max_thevenin_pairs: int = 20
     """Most node pairs in one network's options.thevenin_between (each costs a solve); more gets 422."""
+    network_impedance_form_ratio: float = 1e-6
+    """An element impedance below this fraction of its network's median impedance is solved with its current as an
+    unknown (impedance form) rather than as an admittance, which keeps its current exact beside far larger
+    impedances; the answer lists such elements in notes.assumptions. 0 turns it off; at most 0.01."""
     max_fill_conductor_groups: int = 50
     """Most entries (type, size, count) in one raceway-fill request's conductors; more gets 422."""
     compute_deadline_s: float = 10.0
@@ -105,6 +109,8 @@ class Settings:
                 or self.max_fill_conductor_groups < 1:
             raise ValueError("AMPLINE_MAX_CHAIN_LEADS >= 1, AMPLINE_MAX_CHAIN_APPLIANCES >= 0, "
                              "AMPLINE_MAX_THEVENIN_PAIRS >= 0, AMPLINE_MAX_FILL_CONDUCTOR_GROUPS >= 1")
+        if not 0 <= self.network_impedance_form_ratio <= 0.01:
+            raise ValueError("AMPLINE_NETWORK_IMPEDANCE_FORM_RATIO from 0 to 0.01")
         if not (self.compute_deadline_s > 0 and self.body_timeout_s > 0) or self.compute_threads < 1:
             raise ValueError("AMPLINE_COMPUTE_DEADLINE_S > 0, AMPLINE_BODY_TIMEOUT_S > 0, AMPLINE_COMPUTE_THREADS >= 1")
         if self.rate_limit_requests < 0 or self.rate_limit_window_s < 1 or self.rate_limit_clients < 1:

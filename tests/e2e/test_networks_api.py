@@ -721,3 +721,14 @@ def test_apparent_or_reactive_power_in_a_dc_analysis_is_a_422(client):
     net["frequency"] = 0
     body = problem(client.post(SOLVE, json=net), 422)
     assert pointers(body) == ["/elements/1/rated_power"]  # common practice: DC power is P = U I, no S or Q
+
+
+def test_a_tiny_series_resistance_keeps_the_exact_current_and_says_how(client):
+    # 1e-12 ohm in series with 5 ohm on 10 V: 2 A through both (Ohm's law), and the answer names the element solved
+    # in impedance form (AMPLINE_NETWORK_IMPEDANCE_FORM_RATIO, default 1e-6 of the median impedance).
+    body = ok(client.post(SOLVE, json={"frequency": 0, "elements": [
+        V("E", "1", "0", 10), R("tiny", "1", "2", 1e-12), R("load", "2", "0", 5)]}))
+    tiny, load = by_id(body)["tiny"], by_id(body)["load"]
+    assert tiny["current_re_a"] == pytest.approx(10 / (5 + 1e-12), rel=1e-14)
+    assert load["current_re_a"] == pytest.approx(10 / (5 + 1e-12), rel=1e-14)
+    assert any("impedance form" in a and "'tiny'" in a for a in body["notes"]["assumptions"])

@@ -45,3 +45,9 @@ def test_readme_settings_table_lists_every_setting_with_its_default():
         default = f"`{f.default}`" if f.default != "" else "(empty)"
         row = f"| `AMPLINE_{f.name.upper()}` | {default} |"
         assert row in readme, f"README settings table: missing or stale row for AMPLINE_{f.name.upper()}"
+
+
+def test_impedance_form_ratio_is_bounded():
+    assert Settings.from_env({"AMPLINE_NETWORK_IMPEDANCE_FORM_RATIO": "0"}).network_impedance_form_ratio == 0.0
+    with pytest.raises(ValueError, match="IMPEDANCE_FORM_RATIO"):
+        Settings.from_env({"AMPLINE_NETWORK_IMPEDANCE_FORM_RATIO": "0.5"})
