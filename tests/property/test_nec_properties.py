@@ -86,10 +86,10 @@ def test_chosen_size_passes_verify_and_the_next_smaller_fails_a_named_check(spec
     result = _size(spec)
     assume(result.chosen is not None)
     again = _verify(spec, result.chosen)
-    assert again.verdict == "compliant"
+    assert again.verdict == result.verdict and again.verdict in ("compliant", "not_fully_assessed")
     if result.rejected:
         smaller = _verify(spec, result.rejected[-1])
-        assert smaller.verdict != "compliant" and smaller.binding_checks
+        assert smaller.verdict not in ("compliant", "not_fully_assessed") and smaller.binding_checks
         assert smaller.binding_checks[0] in {c.name for c in smaller.chosen.checks if not c.passes}
         # its ways out name the size the search chose, which passes (not boilerplate)
         assert f"{describe(result.chosen.size_label, result.chosen.parallel_sets)} every check with this device." \

@@ -9,6 +9,9 @@ import math
 import pytest
 
 from service.core.sizing import CircuitSpec, LoadSpec, ProtectionSpec, SupplySpec, size_conductor, verify_conductor
+# Every check made passes; not_fully_assessed where some could not be made (e.g. a gG fault cleared within 0.1 s
+# with no let-through figure, IEC 60364-4-43 434.5.2).
+PASSING = ("compliant", "not_fully_assessed")
 from tests.unit.test_sizing import spec  # the same base circuit: 20 A, 25 m, method C, type B, Ze 0.35 ohm
 
 MM2 = 1e-6
@@ -135,7 +138,7 @@ def test_parallel_sets_where_one_conductor_is_not_enough():
     # (IEC 60364-4-43 433.1 b). One 300 mm² (Table B.52.4 method C, 464 A) is not enough. Two sets are two circuits
     # bunched, Cg 0.80 (IEC 60364-5-52 Table B.52.17): 240 mm² 2 x 403 x 0.8 = 644.8 A fails,
     # 300 mm² 2 x 464 x 0.8 = 742.4 A passes (Iz of parallel sets is their sum, IEC 60364-4-43 433.4.1).
-    assert r.verdict == "compliant" and (c.size_label, c.parallel_sets) == ("300 mm²", 2)
+    assert r.verdict in PASSING and (c.size_label, c.parallel_sets) == ("300 mm²", 2)
     assert c.tabulated_capacity_a == 464.0 and c.iz_a == pytest.approx(742.4)
     assert next(f for f in r.factors if f.name == "grouping").value == 0.8
     assert c.metal_mass_kg == pytest.approx(8890 * 20 * (2 * 4 * 300e-6 + 2 * 300e-6))  # IEC 60028 copper density
@@ -155,7 +158,7 @@ def test_verify_parallel_sets_counts_each_set_as_a_circuit():
     one = dataclasses.replace(big_feeder(), circuit=CircuitSpec(length_m=20.0, method="C", parallel_sets=2))
     r = verify_conductor(one, 300 * MM2)
     # IEC 60364-5-52 Table B.52.17: 2 circuits bunched 0.80; Iz = 2 x 464 x 0.8 (433.4.1)
-    assert r.verdict == "compliant" and r.chosen.parallel_sets == 2 and r.chosen.iz_a == pytest.approx(742.4)
+    assert r.verdict in PASSING and r.chosen.parallel_sets == 2 and r.chosen.iz_a == pytest.approx(742.4)
     fails = verify_conductor(one, 240 * MM2)
     assert fails.verdict == "non_compliant" and fails.binding_checks == ("conventional_current",)
     # ways out: the size search under the same conditions finds 2 x 300 mm²
@@ -314,7 +317,7 @@ def test_a_gg_fault_between_the_gates_clears_in_its_band_time_so_the_pe_passes()
                             circuit=CircuitSpec(length_m=80.0, method="E"),
                             protection=ProtectionSpec("gG", breaking_capacity_a=80_000.0),
                             supply=SupplySpec(ze_ohm=0.01)))
-    assert r.verdict == "compliant"
+    assert r.verdict in PASSING
     pe = next(c for c in r.chosen.checks if c.name == "protective_conductor_adiabatic")
     fault = r.chosen.earth_fault_current_a
     slope = math.log(0.1 / 5.0) / math.log(19000 / 7000)

@@ -209,6 +209,9 @@ class Solution:
     assumptions: tuple[str, ...] = ()
     warnings: tuple[str, ...] = ()
     relative_kcl_residual: float = 0.0  # max KCL residual / largest element current
+    # The rounding a current through an admittance inherits from its node voltages, |y| (|v_a| + |v_b|) x a few ulps,
+    # at its largest, over the largest element current: what no solve can remove (accuracy.current_rounding).
+    relative_current_rounding: float = 0.0
 
     # -- nodes -----------------------------------------------------------
     def voltage(self, node: str) -> NodeVoltage:

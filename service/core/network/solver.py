@@ -319,6 +319,7 @@ def _run(prep: PreparedNetwork, system, started: float) -> Solution:
         assumptions=_impedance_form_note(prims, ids, options),
         warnings=tuple(warnings),
         relative_kcl_residual=float(relative_kcl),
+        relative_current_rounding=float(spread),
     )
 
 

@@ -34,7 +34,7 @@ from .checks import (
     request_blames,
 )
 from .circuit import Electrical
-from .model import Device, SizeEvaluation, SizingInput, SizingResult, Step
+from .model import Device, SizeEvaluation, SizingInput, SizingResult, Step, assessed_verdict
 from .regime import Capacity, Regime, iec60364
 from . import harmonics, parallel, ways_out
 from .search import Search, governing_check, smallest_passing
@@ -439,7 +439,7 @@ def size_conductor(spec: SizingInput, regime: Regime | None = None) -> SizingRes
                               f"{ampacity_size.size_label} meets the current-carrying checks but fails "
                               f"{', '.join(forced)}", chosen.area_m2 / MM2, "mm²"))
         governing = _governing(rejected) or "smallest_listed_size"
-        return _result(ctx, "size", "compliant", chosen, rejected, governing, (), steps, f.solves)
+        return _result(ctx, "size", assessed_verdict(chosen), chosen, rejected, governing, (), steps, f.solves)
     largest = rejected[-1]
     binding = tuple(n for n in CHECK_ORDER if n in largest.failing)
     steps.append(Step("Parallel sets tried", f"up to {parallel.MAX_SETS} sets of {parallel.MIN_SET_AREA_MM2[spec.circuit.material]:g} "
@@ -491,6 +491,6 @@ def verify_conductor(spec: SizingInput, area_m2: float, regime: Regime | None = 
     sets = spec.circuit.parallel_sets if sets is None else sets
     ctx, steps, ev, solves = evaluate_size(spec, area_m2, regime, sets)
     failing = tuple(n for n in CHECK_ORDER if n in ev.failing)
-    verdict = "compliant" if ev.passes else "non_compliant"
+    verdict = assessed_verdict(ev) if ev.passes else "non_compliant"
     ways = ways_out.suggest(ctx, "verify", ev, failing, _Tools(regime, spec)) if failing else ()
     return _result(ctx, "verify", verdict, ev, [], failing[0] if failing else None, failing, steps, solves, ways)

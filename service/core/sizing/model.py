@@ -198,7 +198,10 @@ class SizeEvaluation:
 class SizingResult:
     mode: Literal["size", "verify"]
     regime: str
-    verdict: Literal["compliant", "non_compliant", "no_compliant_size"]
+    # not_fully_assessed: every check made passes, but some could not be made (chosen.not_assessed says which and
+    # what would settle them): never read as compliant.  NEC verify adds meets_requirements_not_guidance.
+    verdict: Literal["compliant", "not_fully_assessed", "non_compliant", "no_compliant_size",
+                     "meets_requirements_not_guidance"]
     design_current_a: float
     device: Device
     factors: tuple[Factor, ...]
@@ -221,3 +224,8 @@ class SizingResult:
     solves: int
     raceway: object | None = None  # NEC: the raceway fill of the chosen size (nec.fill.FillResult), when a raceway is given
     drop_temperature_basis: str | None = None  # IEC: maximum_operating or estimated_from_load
+
+
+def assessed_verdict(passing: SizeEvaluation) -> str:
+    """The verdict of a size whose checks all pass: compliant only when no check was left unmade."""
+    return "not_fully_assessed" if passing.not_assessed else "compliant"

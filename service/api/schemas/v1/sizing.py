@@ -358,8 +358,11 @@ class FactorOut(Out):
 
 
 class SizingResult(Out):
-    verdict: Annotated[str, Meta(description=(
-        "compliant, non_compliant (verify) or no_compliant_size (size); NEC verify also "
+    verdict: Annotated[Literal["compliant", "not_fully_assessed", "non_compliant", "no_compliant_size",
+                               "meets_requirements_not_guidance"], Meta(title="SizingVerdict", description=(
+        "compliant: every check was made and passed. not_fully_assessed: every check made passed, but some could not "
+        "be made for lack of data (chosen.not_assessed lists them with what would settle them): not a pass. "
+        "non_compliant (verify) or no_compliant_size (size): a check fails. NEC verify also "
         "meets_requirements_not_guidance (only checks marked guidance fail, such as the voltage-drop notes)."))]
     regime: str
     design_current_a: float

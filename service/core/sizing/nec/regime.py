@@ -24,7 +24,7 @@ from service.core.conductors import Conductor, ConductorLibrary, default_library
 from service.core.steps import Step
 
 from ..circuit import Electrical, RunCase, solve_runs
-from ..model import Check, Device, Factor, SizeEvaluation, SizingResult
+from ..model import Check, Device, Factor, NotAssessed, SizeEvaluation, SizingResult, assessed_verdict
 from ..search import governing_check, smallest_passing
 from ..tables import default_sizing_tables
 from .fill import FillConductor, FillResult, raceway_fill
@@ -350,7 +350,10 @@ class NecRegime:
                 capacity_table_id=self._ampacity_table_id(plan), iz_a=ampacity, checks=tuple(checks),
                 voltage_drop_v=None if run is None else run.drop_v, voltage_drop_pct=drop_pct, total_drop_pct=total,
                 zs_ohm=None, earth_fault_current_a=None, metal_mass_kg=mass,
-                r1_ohm=None if run is None else run.r1_ohm, r2_ohm=None, parallel_sets=cand.sets))
+                r1_ohm=None if run is None else run.r1_ohm, r2_ohm=None, parallel_sets=cand.sets,
+                not_assessed=() if plan.breaking is not None else (NotAssessed(
+                    "breaking_capacity", "110.9: no available fault current given (supply.available_fault_current), "
+                    "so the interrupting rating cannot be compared with it"),)))
         return found, solves
 
     def _ampacity_minimum(self, plan: Plan, candidates: list[Candidate]) -> tuple[Conductor, int] | None:
@@ -388,7 +391,7 @@ class NecRegime:
                                   f"{low} carries the load but fails {', '.join(forced)}",
                                   chosen.parallel_sets * self.t.cmil[chosen.size_label], "cmil"))
             governing = governing_check(rejected, CHECK_ORDER) or "smallest_listed_size"
-            return self._result(plan, "size", "compliant", chosen, rejected, governing, (), steps, solves)
+            return self._result(plan, "size", assessed_verdict(chosen), chosen, rejected, governing, (), steps, solves)
         failing = rejected[-1].failing
         # A device check that fails binds alone: no conductor can pass it (ways_out then say what the conductor
         # would be with a device that passes).
@@ -413,7 +416,8 @@ class NecRegime:
         (ev,), solves = self._evaluate(plan, [cand], True, self._minimum(plan, singles))
         failing = tuple(n for n in CHECK_ORDER if n in ev.failing)
         requirements_met = all(c.passes for c in ev.checks if c.obligation == "requirement")
-        verdict = "compliant" if ev.passes else "meets_requirements_not_guidance" if requirements_met else "non_compliant"
+        verdict = assessed_verdict(ev) if ev.passes else ("meets_requirements_not_guidance" if requirements_met
+                                                           else "non_compliant")
         return self._result(plan, "verify", verdict, ev, [], failing[0] if failing else None, failing,
                             list(plan.steps), solves, ev)
 
