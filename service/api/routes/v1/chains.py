@@ -195,9 +195,15 @@ _EXAMPLES = {
         "rating and model. Per lead: current, voltages, drop, loss, its rating after ambient and reel derating "
         "(BS 7671 Tables 4F3A and 4F1A) and a verdict. Per appliance: voltage, current, power delivered and any "
         "heating task's time. Totals: drop against the limit (default 5 %, IEC 60364-5-52 Table G.52.1), losses, "
-        "energy and cost. At the far end: loop impedances, the prospective fault currents and whether the origin "
-        "device disconnects an earth fault in time (IEC 60364-4-41 Table 41.1, IEC 60898-1, Cmin from IEC 60909-0). "
-        "The greatest length of each lead type that meets both limits, and plain recommendations."
+        "energy and cost, the drop counted from the origin of the installation (upstream_voltage_drop). Overload "
+        "protection of each lead: In <= Iz and I2 <= 1.45 Iz (IEC 60364-4-43 433.1). At the far end: loop "
+        "impedances, and whether the origin device disconnects an earth fault and a line-neutral fault in time "
+        "(IEC 60364-4-41 Table 41.1, IEC 60898-1, Cmin from IEC 60909-0), with the cords' withstand k²S² >= I²t "
+        "(434.5.2). The greatest length of each lead type by route (voltage drop; overcurrent device for earth and "
+        "line-neutral faults; RCD for earth faults only), and plain recommendations. Every lead, appliance and the "
+        "fault carry checks with stable codes; the verdict is pass only when every check was made and passed, "
+        "not_assessed (with missing_inputs) when some could not be made. A chain that cannot supply its "
+        "appliances is a fail verdict (supply_collapse), not an error."
     ),
     status_code=200,
     responses={
