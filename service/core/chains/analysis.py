@@ -21,6 +21,7 @@ from service.core.protection import (
     earth_fault_check,
     required_disconnection_time,
 )
+from service.core.protection.adiabatic import ADIABATIC_LIMIT_S
 
 from .circuit import FAULT_TEMPERATURE_C, appliance_id, conductor_temperature, lead_id, solve_chain
 from .codes import ChainCheck, missing_of, verdict_of
@@ -192,6 +193,17 @@ def _earth_fault_verdict(chain: Chain, earth_loop: float | None, check, has_prot
                       "A", source)
 
 
+def _line_neutral_time(disconnection) -> float:
+    """Table 41.1's time for the supply; where it sets none, the 5 s of 434.5.2's adiabatic limit."""
+    return disconnection.time_s if disconnection is not None and disconnection.time_s is not None else ADIABATIC_LIMIT_S
+
+
+def _line_neutral_time_source(disconnection) -> str:
+    if disconnection is not None and disconnection.time_s is not None:
+        return disconnection.source
+    return "Table 41.1 sets no time for this supply: 5 s, the limit of IEC 60364-4-43 434.5.2"
+
+
 def _fault_report(chain: Chain, solution: Solution) -> FaultReport:
     s = chain.supply
     ln = solution.thevenin[0]
@@ -215,8 +227,8 @@ def _fault_report(chain: Chain, solution: Solution) -> FaultReport:
                 s.nominal_voltage_v, earth_loop, device, disconnection.time_s, rcd=rcd,
                 ra_ohm=s.electrode_resistance_ohm if tt_with_ra else None,
                 earthing=s.earthing if (s.earthing != "TT" or tt_with_ra) else None)
-        if device is not None and disconnection is not None and disconnection.time_s is not None:
-            line_neutral = line_neutral_fault(s.nominal_voltage_v, z_ln, device, disconnection.time_s)
+        if device is not None:
+            line_neutral = line_neutral_fault(s.nominal_voltage_v, z_ln, device, _line_neutral_time(disconnection))
     except CalcError as exc:
         raise _relocated(exc, ("supply",)) from None
     if check is not None and not check.complies:
@@ -232,7 +244,7 @@ def _fault_report(chain: Chain, solution: Solution) -> FaultReport:
                         f"{line_neutral.device} needs {line_neutral.operating.current_a:.3g} A to clear within "
                         f"{line_neutral.required_time_s:g} s, and {took}")
     checks = (_earth_fault_verdict(chain, earth_loop, check, device is not None or rcd is not None),
-              line_neutral_check(line_neutral, None if disconnection is None else disconnection.source))
+              line_neutral_check(line_neutral, _line_neutral_time_source(disconnection)))
     return FaultReport(
         line_neutral_loop_ohm=z_ln, prospective_short_circuit_a=s.nominal_voltage_v / z_ln,
         earth_loop_ohm=earth_loop, disconnection=disconnection, earth_fault=check,
