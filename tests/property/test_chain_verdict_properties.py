@@ -3,7 +3,7 @@
 
 from __future__ import annotations
 
-from hypothesis import given, settings
+from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from service.core.chains import Appliance, Chain, Lead, Limits, SourceImpedance, Supply, analyse_chain
@@ -68,3 +68,23 @@ def test_verdict_is_pass_only_when_every_check_was_made_and_passed(chain):
 def test_the_property_saw_every_verdict():
     # Runs after the property (file order): a property that never met a pass would prove little.
     assert SEEN == {"pass", "fail", "not_assessed"}
+
+
+@settings(max_examples=25, deadline=None, derandomize=True)
+@given(st.sampled_from(SIZES), st.sampled_from([d for d in DEVICES if d is not None]), st.floats(0.05, 0.5))
+def test_line_neutral_length_limit_is_where_the_far_end_fault_stops_clearing(size, device, zln):
+    # The loop grows with length (|Z_socket + 2 r L|, IEC 60364-4-41 411.4.4 form), so the line-neutral check
+    # passes just inside the reported limit and fails just beyond it: the limit and the check agree.
+    def chain(length):
+        return Chain(Supply(230.0, 50.0, SourceImpedance(zln), SourceImpedance(zln + 0.2), "TN-S", device[0],
+                            device[1], 0.03, 25.0), (Lead("l", length, cord(size)),), (Appliance("a", 0, 100.0, 230.0),))
+
+    limit = analyse_chain(chain(10.0)).length_limits[0].by_overcurrent_line_neutral_m
+    assume(limit is not None and limit > 2.0)
+
+    def passes(length):
+        (check,) = [c for c in analyse_chain(chain(length)).fault.checks if c.code == "line_neutral_disconnection"]
+        return check.passes
+
+    assert passes(0.98 * limit) is True
+    assert passes(1.02 * limit) is False
