@@ -161,5 +161,6 @@ def to_chain(req: s.LeadChainRequest) -> Chain:
         leads=tuple(Lead(**lead) for lead in leads),
         appliances=tuple(appliances),
         limits=Limits(voltage_drop_pct=req.limits.voltage_drop, tariff_per_kwh=req.limits.tariff_per_kwh,
-                      hours_per_year=req.limits.hours_per_year),
+                      hours_per_year=req.limits.hours_per_year,
+                      upstream_voltage_drop_pct=req.limits.upstream_voltage_drop),
     )

@@ -115,7 +115,7 @@ def test_a_fully_wound_reel_takes_the_deepest_drum_factor():
 def test_greatest_length_meets_the_drop_limit_exactly():
     chain = Chain(supply(), (Lead("lead", 10.0, cord(1.5)),), (heater(2000.0),), Limits(voltage_drop_pct=4.0))
     limit = analyse_chain(chain).length_limits[0]
-    assert limit.governed_by in ("voltage drop", "disconnection")
+    assert limit.governed_by == "voltage_drop"
     # At the drop-limited length (conductors at 60 °C, conservative) the drop is the limit.
     from service.core.chains.lengths import _DropProbe
 

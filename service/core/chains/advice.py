@@ -16,6 +16,10 @@ def _larger_cord(cords: CordLibrary, current_a: float, factor: float) -> str | N
     return None
 
 
+def _too_hot(lead: LeadReport) -> bool:
+    return any(c.code == "lead_temperature" and c.passes is False for c in lead.checks)
+
+
 def recommendations(chain: Chain, leads: tuple[LeadReport, ...], appliances: tuple[ApplianceReport, ...],
                     totals: ChainTotals, fault: FaultReport, limits: tuple[LengthLimit, ...],
                     cords: CordLibrary) -> tuple[str, ...]:
@@ -23,7 +27,7 @@ def recommendations(chain: Chain, leads: tuple[LeadReport, ...], appliances: tup
     for r, lead in zip(leads, chain.leads):
         wound = lead.reel is not None and lead.reel.wound != "none"
         unwound = r.rating.base_a * (r.rating.ambient.value if r.rating.ambient else 0)
-        if wound and (not r.passes or (r.loading_pct or 0) > 50):
+        if wound and (_too_hot(r) or (r.loading_pct or 0) > 50):
             found.append(f"Unwind the reel '{r.name}' fully before use: wound it may carry {r.rating.effective_a or 0:.3g} A, "
                          f"unwound {unwound:.3g} A, and it now carries {r.current_a:.3g} A.")
         overloaded = r.rating.effective_a is not None and r.current_a > r.rating.effective_a
@@ -34,9 +38,9 @@ def recommendations(chain: Chain, leads: tuple[LeadReport, ...], appliances: tup
             found.append(f"Replace '{r.name}' with a lead of a larger conductor{where}: it carries {r.current_a:.3g} A "
                          f"against {r.rating.effective_a:.3g} A.")
         if r.overload_protected is False:
-            found.append(f"'{r.name}' is not protected against overload: the {r.overload_device} is above its "
-                         f"{r.rating.effective_a or 0:.3g} A rating (IEC 60364-4-43, 433.1: In <= Iz). Use a lead rated "
-                         "for the origin device, or a plug fuse no larger than the lead's rating.")
+            found.append(f"'{r.name}' is not protected against overload by the {r.overload_device} "
+                         f"(IEC 60364-4-43, 433.1: In <= Iz and I2 <= 1.45 Iz, Iz = {r.rating.effective_a or 0:.3g} A). "
+                         "Use a lead rated for the origin device, or a plug fuse no larger than the lead's rating.")
     if not totals.drop_complies and leads:
         worst = max(leads, key=lambda r: r.drop_v)
         found.append(f"Use a larger conductor for '{worst.name}', which alone drops {worst.drop_v:.3g} V.")
@@ -44,14 +48,22 @@ def recommendations(chain: Chain, leads: tuple[LeadReport, ...], appliances: tup
         if far:
             biggest = max(far, key=lambda a: a.power_w)
             found.append(f"Move '{biggest.name}' to a nearer outlet: it draws {biggest.power_w:.4g} W at outlet {biggest.outlet}.")
-    if len(chain.appliances) > 1 and (not totals.drop_complies or any(not r.passes for r in leads)):
+    if len(chain.appliances) > 1 and (not totals.drop_complies or any(_too_hot(r) for r in leads)):
         found.append("Split the load: feed some appliances from a second socket on another circuit.")
     check = fault.earth_fault
     if check is not None and not check.complies:
-        usable = [f"{lim.size_label}: {lim.by_disconnection_m:.4g} m" for lim in limits if lim.by_disconnection_m is not None]
+        usable = [f"{lim.size_label}: {lim.by_overcurrent_earth_fault_m:.4g} m" for lim in limits
+                  if lim.by_overcurrent_earth_fault_m is not None]
         found.append("Shorten the chain so the origin device still clears an earth fault at the far end"
                      + (f" (longest single lead that still disconnects: {'; '.join(usable)})" if usable else "")
                      + ", or protect it with a 30 mA RCD.")
+    ln = fault.line_neutral
+    if ln is not None and not ln.complies:
+        usable = [f"{lim.size_label}: {lim.by_overcurrent_line_neutral_m:.4g} m" for lim in limits
+                  if lim.by_overcurrent_line_neutral_m is not None]
+        found.append("Shorten the chain or use leads with a larger conductor so the origin device clears a "
+                     "line-neutral fault at the far end" + (f" (longest single lead: {'; '.join(usable)})" if usable else "")
+                     + ", or feed it from a socket on a lower-rated device: an RCD does not see this fault.")
     if chain.supply.rcd_sensitivity_a is None:
         found.append("Plug the chain into a socket protected by a 30 mA RCD, or use a portable RCD at the socket: "
                      "IEC 60364-4-41 (411.3.3) requires additional protection for socket-outlets up to 32 A.")

@@ -1,11 +1,13 @@
-"""The greatest length of each lead type that still meets the drop limit and disconnects a fault.
+"""The greatest length of each lead type that still meets the drop limit and disconnects a fault, by route.
 
 For every conductor type in the chain: one lead of that type plugged into the
 origin socket with every appliance at its outlet, conductors at the cord's
 maximum operating temperature (conservative).  The drop limit is found by a
 bracketing search on the solved network (the drop grows with length); the
-disconnection limit follows from the loop being linear in length:
-|Ze + 2 r L| <= Zs,max.
+disconnection limits follow from the loop being linear in length,
+|Z_source + 2 r L| <= Z,max, for each protection route on its own: the
+overcurrent device for earth faults and for line-neutral faults, the RCD for
+earth faults only.
 """
 
 from __future__ import annotations
@@ -107,17 +109,42 @@ def _by_drop(chain: Chain, lead: Lead) -> float | None:
     return low
 
 
-def _by_disconnection(chain: Chain, lead: Lead, fault: FaultReport) -> float | None:
-    check, ze = fault.earth_fault, chain.supply.line_earth
-    if check is None or ze is None:
-        return None
-    routes = [r.max_zs_ohm for r in (check.overcurrent, check.rcd) if r is not None]
-    zs_max = max(routes)
-    per_m = 2.0 * lead.conductor.resistance_per_m_at(FAULT_TEMPERATURE_C)  # line out, protective conductor back
-    room = zs_max**2 - ze.reactance_ohm**2
+def _longest(zmax_ohm: float, source_resistance_ohm: float, source_reactance_ohm: float, per_m_ohm: float) -> float:
+    """Longest L with |Z_source + per_m x L| <= zmax (the added conductors are resistive)."""
+    room = zmax_ohm**2 - source_reactance_ohm**2
     if room <= 0:
         return 0.0
-    return max(0.0, (math.sqrt(room) - ze.resistance_ohm) / per_m)
+    return max(0.0, (math.sqrt(room) - source_resistance_ohm) / per_m_ohm)
+
+
+def _by_route(chain: Chain, lead: Lead, fault: FaultReport) -> dict[str, float | None]:
+    """The length limit of each protection route; None where the route is not there or not assessed.
+
+    Earth faults: Zs,max of the overcurrent device and of the RCD, each against Ze (line out, protective
+    conductor back).  Line-neutral faults: only the overcurrent device sees them, Z(line-neutral),max = Cmin U0 / Ia.
+    """
+    per_m = 2.0 * lead.conductor.resistance_per_m_at(FAULT_TEMPERATURE_C)  # out and back
+    check, ze, zln = fault.earth_fault, chain.supply.line_earth, chain.supply.line_neutral
+    found: dict[str, float | None] = dict.fromkeys(("earth_fault_overcurrent", "earth_fault_rcd",
+                                                    "line_neutral_overcurrent"))
+    if check is not None and ze is not None:
+        for name, route in (("earth_fault_overcurrent", check.overcurrent), ("earth_fault_rcd", check.rcd)):
+            if route is not None:
+                found[name] = _longest(route.max_zs_ohm, ze.resistance_ohm, ze.reactance_ohm, per_m)
+    ln = fault.line_neutral
+    if ln is not None:
+        zmax = ln.cmin * chain.supply.nominal_voltage_v / ln.operating.current_a
+        found["line_neutral_overcurrent"] = _longest(zmax, zln.resistance_ohm, zln.reactance_ohm, per_m)
+    return found
+
+
+def _missing(chain: Chain, fault: FaultReport) -> tuple[str, ...]:
+    missing = []
+    if fault.line_neutral is None:
+        missing.append("supply.device")
+    if fault.earth_fault is None and chain.supply.line_earth is None:
+        missing.append("supply.earth_loop_impedance")
+    return tuple(missing)
 
 
 def length_limits(chain: Chain, fault: FaultReport) -> tuple[LengthLimit, ...]:
@@ -125,12 +152,20 @@ def length_limits(chain: Chain, fault: FaultReport) -> tuple[LengthLimit, ...]:
     for k, lead in enumerate(chain.leads):
         c = lead.conductor
         groups.setdefault((c.size_label, c.material.name, c.conductor_class), []).append(k)
+    missing = _missing(chain, fault)
     limits = []
     for indices in groups.values():
         lead = chain.leads[indices[0]]
         drop = _by_drop(chain, lead)
-        disconnection = _by_disconnection(chain, lead, fault)
-        known = [(v, name) for v, name in ((drop, "voltage drop"), (disconnection, "disconnection")) if v is not None]
+        routes = _by_route(chain, lead, fault)
+        # An earth fault is cleared by either device; a line-neutral fault only by the overcurrent device.
+        earth = [(v, name) for name in ("earth_fault_overcurrent", "earth_fault_rcd") if (v := routes[name]) is not None]
+        known = [(drop, "voltage_drop")] if drop is not None else []
+        known += [max(earth)] if earth else []
+        if routes["line_neutral_overcurrent"] is not None:
+            known.append((routes["line_neutral_overcurrent"], "line_neutral_overcurrent"))
         greatest, governed = min(known) if known else (None, None)
-        limits.append(LengthLimit(tuple(indices), lead.conductor.size_label, drop, disconnection, greatest, governed))
+        limits.append(LengthLimit(
+            tuple(indices), lead.conductor.size_label, drop, routes["earth_fault_overcurrent"],
+            routes["earth_fault_rcd"], routes["line_neutral_overcurrent"], greatest, governed, missing))
     return tuple(limits)

@@ -99,7 +99,8 @@ class Appliance:
 
 @dataclass(frozen=True, slots=True)
 class Limits:
-    voltage_drop_pct: float = 5.0
+    voltage_drop_pct: float = 5.0  # from the origin of the installation (IEC 60364-5-52 Table G.52.1)
+    upstream_voltage_drop_pct: float | None = None  # already used in the fixed wiring; None: not given, 0 taken
     tariff_per_kwh: float | None = None
     hours_per_year: float | None = None  # for all appliances without their own hours
 

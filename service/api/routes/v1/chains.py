@@ -34,6 +34,11 @@ CHAIN_CAUTIONS = (
 )
 
 
+def _checks(checks) -> list[s.ChainCheckOut]:
+    return [s.ChainCheckOut(code=c.code, passes=c.passes, value=c.value, limit=c.limit, unit=c.unit, source=c.source,
+                            missing_inputs=list(c.missing_inputs)) for c in checks]
+
+
 def _lead(r) -> s.LeadOut:
     rating = r.rating
     return s.LeadOut(
@@ -48,7 +53,7 @@ def _lead(r) -> s.LeadOut:
             drum_note=None if rating.drum is None else rating.drum.reason,
             marked_wound_rating_used=rating.wound_rating_used, effective_a=rating.effective_a),
         loading_pct=r.loading_pct, overload_device=r.overload_device, overload_protected=r.overload_protected,
-        verdict="pass" if r.passes else "fail", problems=list(r.problems),
+        verdict=r.verdict, checks=_checks(r.checks), problems=list(r.problems),
     )
 
 
@@ -62,7 +67,8 @@ def _appliance(a) -> s.ApplianceOut:
     return s.ApplianceOut(
         index=a.index, name=a.name, outlet=a.outlet, voltage_v=a.voltage_v, current_a=a.current_a, power_w=a.power_w,
         power_pct_of_rated=a.power_pct_of_rated, drop_from_socket_pct=a.drop_from_socket_pct, heating=heating,
-        energy_kwh_per_year=a.energy_kwh_per_year, cost_per_year=a.cost_per_year,
+        energy_kwh_per_year=a.energy_kwh_per_year, cost_per_year=a.cost_per_year, verdict=a.verdict,
+        checks=_checks(a.checks),
     )
 
 
@@ -87,6 +93,27 @@ def _earth_fault(report: ChainReport) -> s.EarthFaultOut:
     )
 
 
+def _line_neutral(ln) -> s.LineNeutralFaultOut | None:
+    if ln is None:
+        return None
+    return s.LineNeutralFaultOut(
+        device=ln.device, voltage_factor_cmin=ln.cmin, fault_current_a=ln.fault_current_a,
+        required_disconnection_time_s=ln.required_time_s, disconnecting_current_a=ln.operating.current_a,
+        disconnecting_basis=ln.operating.basis, clearing_time_s=ln.clearing_time_s, disconnects=ln.complies)
+
+
+def _totals(t) -> s.TotalsOut | None:
+    if t is None:
+        return None
+    return s.TotalsOut(
+        socket_voltage_v=t.socket_voltage_v, lowest_appliance_voltage_v=t.lowest_appliance_voltage_v,
+        total_drop_v=t.total_drop_v, total_drop_pct=t.total_drop_pct, upstream_drop_pct=t.upstream_drop_pct,
+        drop_from_origin_pct=t.drop_from_origin_pct, drop_limit_pct=t.drop_limit_pct,
+        drop_complies=t.drop_complies, loss_w=t.loss_w, delivered_w=t.delivered_w,
+        supply_current_a=t.supply_current_a, loss_kwh_per_year=t.loss_kwh_per_year,
+        loss_cost_per_year=t.loss_cost_per_year, delivered_kwh_per_year=t.delivered_kwh_per_year)
+
+
 def result_of(report: ChainReport) -> s.LeadChainResult:
     t, fault = report.totals, report.fault
     notes = CalculationNotes(
@@ -95,30 +122,34 @@ def result_of(report: ChainReport) -> s.LeadChainResult:
         sources=source_refs(*report.table_ids),
         cautions=[*GENERAL_CAUTIONS, *CHAIN_CAUTIONS],
     )
+    collapsed = report.totals is None
     return s.LeadChainResult(
-        verdict=report.verdict, failed_checks=list(report.failed_checks),
+        verdict=report.verdict, missing_inputs=list(report.missing_inputs), failed_checks=list(report.failed_checks),
+        checks=_checks(report.checks),
+        unsupplied_appliances=[s.UnsuppliedApplianceOut(index=a.index, name=a.name, rated_power_w=a.rated_power_w,
+                                                        max_power_w=a.max_power_w) for a in report.unsupplied],
         leads=[_lead(r) for r in report.leads],
         appliances=[_appliance(a) for a in report.appliances],
-        totals=s.TotalsOut(
-            socket_voltage_v=t.socket_voltage_v, lowest_appliance_voltage_v=t.lowest_appliance_voltage_v,
-            total_drop_v=t.total_drop_v, total_drop_pct=t.total_drop_pct, drop_limit_pct=t.drop_limit_pct,
-            drop_complies=t.drop_complies, loss_w=t.loss_w, delivered_w=t.delivered_w,
-            supply_current_a=t.supply_current_a, loss_kwh_per_year=t.loss_kwh_per_year,
-            loss_cost_per_year=t.loss_cost_per_year, delivered_kwh_per_year=t.delivered_kwh_per_year),
+        totals=_totals(t),
         fault=s.FaultOut(
             line_neutral_loop_ohm=fault.line_neutral_loop_ohm,
             prospective_short_circuit_a=fault.prospective_short_circuit_a, earth_loop_ohm=fault.earth_loop_ohm,
             conductor_temperature_degc=fault.conductor_temperature_c, earth_fault=_earth_fault(report),
+            line_neutral=_line_neutral(fault.line_neutral), verdict=fault.verdict, checks=_checks(fault.checks),
             problems=list(fault.problems)),
         length_limits=[s.LengthLimitOut(size_label=x.size_label, lead_indices=list(x.lead_indices),
-                                        by_voltage_drop_m=x.by_voltage_drop_m, by_disconnection_m=x.by_disconnection_m,
-                                        greatest_m=x.greatest_m, governed_by=x.governed_by)
+                                        by_voltage_drop_m=x.by_voltage_drop_m,
+                                        by_overcurrent_earth_fault_m=x.by_overcurrent_earth_fault_m,
+                                        by_rcd_earth_fault_m=x.by_rcd_earth_fault_m,
+                                        by_overcurrent_line_neutral_m=x.by_overcurrent_line_neutral_m,
+                                        greatest_m=x.greatest_m, governed_by=x.governed_by,
+                                        missing_inputs=list(x.missing_inputs))
                        for x in report.length_limits],
         recommendations=list(report.recommendations),
-        solver=s.SolverOut(temperature_rounds=report.temperature_rounds,
-                           temperatures_settled=report.temperatures_settled, newton_solves=report.solver_iterations,
-                           max_kcl_residual_a=report.max_kcl_residual_a,
-                           power_balance_residual_va=report.power_balance_residual_va),
+        solver=None if collapsed else s.SolverOut(
+            temperature_rounds=report.temperature_rounds, temperatures_settled=report.temperatures_settled,
+            newton_solves=report.solver_iterations, max_kcl_residual_a=report.max_kcl_residual_a,
+            power_balance_residual_va=report.power_balance_residual_va),
         notes=notes,
     )
 
@@ -164,9 +195,15 @@ _EXAMPLES = {
         "rating and model. Per lead: current, voltages, drop, loss, its rating after ambient and reel derating "
         "(BS 7671 Tables 4F3A and 4F1A) and a verdict. Per appliance: voltage, current, power delivered and any "
         "heating task's time. Totals: drop against the limit (default 5 %, IEC 60364-5-52 Table G.52.1), losses, "
-        "energy and cost. At the far end: loop impedances, the prospective fault currents and whether the origin "
-        "device disconnects an earth fault in time (IEC 60364-4-41 Table 41.1, IEC 60898-1, Cmin from IEC 60909-0). "
-        "The greatest length of each lead type that meets both limits, and plain recommendations."
+        "energy and cost, the drop counted from the origin of the installation (upstream_voltage_drop). Overload "
+        "protection of each lead: In <= Iz and I2 <= 1.45 Iz (IEC 60364-4-43 433.1). At the far end: loop "
+        "impedances, and whether the origin device disconnects an earth fault and a line-neutral fault in time "
+        "(IEC 60364-4-41 Table 41.1, IEC 60898-1, Cmin from IEC 60909-0), with the cords' withstand k²S² >= I²t "
+        "(434.5.2). The greatest length of each lead type by route (voltage drop; overcurrent device for earth and "
+        "line-neutral faults; RCD for earth faults only), and plain recommendations. Every lead, appliance and the "
+        "fault carry checks with stable codes; the verdict is pass only when every check was made and passed, "
+        "not_assessed (with missing_inputs) when some could not be made. A chain that cannot supply its "
+        "appliances is a fail verdict (supply_collapse), not an error."
     ),
     status_code=200,
     responses={

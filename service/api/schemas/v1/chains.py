@@ -15,6 +15,7 @@ from service.api.schemas.v1.common import (
     Strict,
     quantity,
 )
+from service.core.chains.codes import CHAIN_CHECK_CODES, LENGTH_ROUTES
 from service.units import (
     AC_POWER,
     CURRENT,
@@ -122,6 +123,10 @@ class LimitsIn(Strict):
     tariff_per_kwh: Annotated[float, Meta(ge=0, le=1000, description="Energy price per kWh, in your currency.")] | None = None
     hours_per_year: Annotated[float, Meta(ge=0, le=8784, description=(
         "Hours a year the whole chain runs as given (for the leads' losses, and for appliances without their own)."))] | None = None
+    upstream_voltage_drop: Annotated[float, Meta(ge=0, le=50, description=(
+        "Drop already used in the fixed wiring, from the origin of the installation to the socket, in % of the "
+        "nominal voltage. The limit counts from the origin (IEC 60364-5-52 Table G.52.1). Left out: taken as 0 %, "
+        "and the answer's assumptions say so."))] | None = None
 
 
 class LeadChainRequest(Strict, kw_only=True):
@@ -134,6 +139,24 @@ class LeadChainRequest(Strict, kw_only=True):
 
 
 # -- response ---------------------------------------------------------------
+
+ChainCheckCode = Annotated[Literal[CHAIN_CHECK_CODES], Meta(title="ChainCheckCode", description=(  # type: ignore[valid-type]
+    "Stable machine-readable code of a lead-chain check: act on it, never on the text in problems."))]
+Verdict = Annotated[Literal["pass", "fail", "not_assessed"], Meta(description=(
+    "pass only when every check was made and passed; not_assessed when none failed but some could not be made "
+    "(missing_inputs names what would let them be made); fail when any failed."))]
+LengthRoute = Annotated[Literal[LENGTH_ROUTES], Meta(title="LengthLimitRoute", description=(  # type: ignore[valid-type]
+    "What sets the greatest usable length: voltage drop, or a protection route."))]
+
+
+class ChainCheckOut(Out):
+    code: ChainCheckCode
+    passes: Annotated[bool | None, Meta(description="null: not assessed (see missing_inputs)")]
+    value: float | None
+    limit: float | None
+    unit: str
+    source: str
+    missing_inputs: list[str]
 
 class LeadRatingOut(Out):
     base_a: float
@@ -162,7 +185,8 @@ class LeadOut(Out):
     loading_pct: float | None
     overload_device: str | None
     overload_protected: bool | None
-    verdict: Literal["pass", "fail"]
+    verdict: Verdict
+    checks: list[ChainCheckOut]
     problems: list[str]
 
 
@@ -185,6 +209,20 @@ class ApplianceOut(Out):
     heating: HeatingOut | None
     energy_kwh_per_year: float | None
     cost_per_year: float | None
+    verdict: Verdict
+    checks: list[ChainCheckOut]
+
+
+class LineNeutralFaultOut(Out):
+    device: str
+    voltage_factor_cmin: float
+    fault_current_a: float
+    required_disconnection_time_s: float
+    disconnecting_current_a: float
+    disconnecting_basis: str
+    clearing_time_s: Annotated[float | None, Meta(description=(
+        "The time the device is guaranteed to take at this current; null: not guaranteed to disconnect within 5 s."))]
+    disconnects: bool
 
 
 class EarthFaultOut(Out):
@@ -206,6 +244,9 @@ class FaultOut(Out):
     earth_loop_ohm: float | None
     conductor_temperature_degc: float
     earth_fault: EarthFaultOut
+    line_neutral: LineNeutralFaultOut | None
+    verdict: Verdict
+    checks: list[ChainCheckOut]
     problems: list[str]
 
 
@@ -213,16 +254,23 @@ class LengthLimitOut(Out):
     size_label: str
     lead_indices: list[int]
     by_voltage_drop_m: float | None
-    by_disconnection_m: float | None
+    by_overcurrent_earth_fault_m: float | None
+    by_rcd_earth_fault_m: Annotated[float | None, Meta(description=(
+        "The RCD route sees earth faults only: it never sets the limit for a line-neutral fault."))]
+    by_overcurrent_line_neutral_m: float | None
     greatest_m: float | None
-    governed_by: str | None
+    governed_by: LengthRoute | None
+    missing_inputs: Annotated[list[str], Meta(description=(
+        "Routes not assessed for lack of these inputs: greatest_m may then be longer than is safe."))]
 
 
 class TotalsOut(Out):
     socket_voltage_v: float
     lowest_appliance_voltage_v: float
     total_drop_v: float
-    total_drop_pct: float
+    total_drop_pct: Annotated[float, Meta(description="The chain's share: socket to the lowest appliance.")]
+    upstream_drop_pct: float
+    drop_from_origin_pct: Annotated[float, Meta(description="upstream + the chain's share, against drop_limit_pct.")]
     drop_limit_pct: float
     drop_complies: bool
     loss_w: float
@@ -241,14 +289,25 @@ class SolverOut(Out):
     power_balance_residual_va: float
 
 
+class UnsuppliedApplianceOut(Out):
+    index: int
+    name: str
+    rated_power_w: float
+    max_power_w: Annotated[float | None, Meta(description="The most the chain can deliver to it; null: not known.")]
+
+
 class LeadChainResult(Out):
-    verdict: Literal["pass", "fail"]
+    verdict: Verdict
+    missing_inputs: list[str]
     failed_checks: list[str]
-    leads: list[LeadOut]
+    checks: Annotated[list[ChainCheckOut], Meta(description=(
+        "The chain's own checks: voltage_drop_budget, or supply_collapse when it cannot supply its appliances."))]
+    unsupplied_appliances: list[UnsuppliedApplianceOut]
+    leads: Annotated[list[LeadOut], Meta(description="Empty when the chain collapses (no operating point).")]
     appliances: list[ApplianceOut]
-    totals: TotalsOut
+    totals: TotalsOut | None
     fault: FaultOut
     length_limits: list[LengthLimitOut]
     recommendations: list[str]
-    solver: SolverOut
+    solver: SolverOut | None
     notes: CalculationNotes
