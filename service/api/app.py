@@ -28,7 +28,7 @@ from service.core.conductors import default_library
 from service.core.cords import default_cords
 from service.core.sizing.nec import nec
 from service.core.sizing.regime import iec60364
-from service.core.protection import default_protection
+from service.core.protection import default_plug_fuses, default_protection
 from service.core.data import load_tables
 
 API_DESCRIPTION = (
@@ -46,6 +46,7 @@ def _load_data(app: Litestar) -> None:
     default_library()
     default_cords()
     default_protection()
+    default_plug_fuses()
     iec60364()
     nec()
     app.state.ready = True

@@ -52,7 +52,9 @@ def recommendations(chain: Chain, leads: tuple[LeadReport, ...], appliances: tup
         found.append("Shorten the chain so the origin device still clears an earth fault at the far end"
                      + (f" (longest single lead that still disconnects: {'; '.join(usable)})" if usable else "")
                      + ", or protect it with a 30 mA RCD.")
-    if chain.supply.rcd_sensitivity_a is None:
+    if chain.supply.system != "standard":
+        pass  # reduced low voltage (BS 7671 411.8): no 30 mA RCD for additional protection is required
+    elif chain.supply.rcd_sensitivity_a is None:
         found.append("Plug the chain into a socket protected by a 30 mA RCD, or use a portable RCD at the socket: "
                      "IEC 60364-4-41 (411.3.3) requires additional protection for socket-outlets up to 32 A.")
     elif chain.supply.rcd_sensitivity_a > 0.030:

@@ -18,13 +18,16 @@ from service.core.protection import (
     CircuitBreaker,
     GGFuse,
     ResidualCurrentDevice,
+    CMIN_LOW_VOLTAGE,
     earth_fault_check,
-    required_disconnection_time,
+    is_rlv,
 )
 
 from .circuit import FAULT_TEMPERATURE_C, appliance_id, lead_id, solve_chain
 from .lengths import length_limits
 from .model import Chain
+from .plug_fuses import plug_fuse_earth_fault, plug_fuse_overload, plug_fuse_problem, plug_fuse_tables
+from .supply_rules import disconnection_rule, earth_fault_u0
 from .ratings import LeadRating, chain_ratings
 from .report import (
     ApplianceReport,
@@ -105,8 +108,9 @@ def _lead_reports(chain: Chain, ratings: tuple[LeadRating, ...], solution: Solut
                 problems.append(f"overloaded: {current:.3g} A against an effective rating of {rating.effective_a:.3g} A "
                                 f"(conductor estimated at {temperature:.0f} °C, above the cord's "
                                 f"{CORD_MAX_CONDUCTOR_C:g} °C limit)")
-        if lead.plug_fuse_a is not None and current > lead.plug_fuse_a:
-            problems.append(f"its {lead.plug_fuse_a:g} A plug fuse will open: {current:.3g} A flows")
+        plug_fuse = plug_fuse_overload(lead, k, current)
+        if (problem := plug_fuse_problem(plug_fuse)) is not None:
+            problems.append(problem)
         protected = None
         if device is not None and rating.effective_a is not None:
             protected = device[1] <= rating.effective_a * (1 + 1e-9)
@@ -116,7 +120,7 @@ def _lead_reports(chain: Chain, ratings: tuple[LeadRating, ...], solution: Solut
             drop_pct=100.0 * (v_in - v_out) / u_nominal, loss_w=result.p_w, conductor_temperature_c=temperature,
             rating=rating, loading_pct=loading, overload_device=None if device is None else device[0],
             overload_device_rating_a=None if device is None else device[1], overload_protected=protected,
-            problems=tuple(problems),
+            problems=tuple(problems), plug_fuse=plug_fuse,
         ))
     return tuple(reports)
 
@@ -151,30 +155,35 @@ def _fault_report(chain: Chain, solution: Solution) -> FaultReport:
     earth_loop = solution.thevenin[1].impedance_ohm if s.line_earth is not None else None
     device = _overcurrent_device(chain)
     rcd = None if s.rcd_sensitivity_a is None else ResidualCurrentDevice(s.rcd_sensitivity_a)
-    disconnection = check = None
+    disconnection = check = credit = None
+    u0 = earth_fault_u0(s)
+    plug_fused = any(lead.plug_fuse_a is not None for lead in chain.leads)
     if earth_loop is None:
         problems.append("the socket's earth-fault loop impedance is not known: disconnection not assessed")
-    elif device is None and rcd is None:
+    elif device is None and rcd is None and not plug_fused:
         problems.append("no protective device given at the origin: disconnection not assessed")
     else:
         rating = s.device_rating_a if s.device_rating_a is not None else 16.0
         try:
-            disconnection = required_disconnection_time(s.earthing, s.nominal_voltage_v, "socket_outlets", rating)
-            if disconnection.time_s is not None:
+            disconnection = disconnection_rule(s, rating)
+            if disconnection.time_s is not None and (device is not None or rcd is not None):
                 tt_with_ra = s.earthing == "TT" and rcd is not None and s.electrode_resistance_ohm is not None
                 check = earth_fault_check(
-                    s.nominal_voltage_v, earth_loop, device, disconnection.time_s, rcd=rcd,
+                    u0, earth_loop, device, disconnection.time_s, rcd=rcd,
                     ra_ohm=s.electrode_resistance_ohm if tt_with_ra else None,
                     earthing=s.earthing if (s.earthing != "TT" or tt_with_ra) else None)
         except CalcError as exc:
             raise _relocated(exc, ("supply",)) from None
-        if check is not None and not check.complies:
-            problems.append(f"an earth fault at the far end is not cleared within {check.required_time_s:g} s: "
-                            f"Zs = {earth_loop:.3g} ohm gives {check.fault_current_a:.3g} A")
+        if disconnection.time_s is not None and plug_fused and not (check is not None and check.complies):
+            credit = plug_fuse_earth_fault(chain, CMIN_LOW_VOLTAGE * u0, earth_loop, disconnection.time_s)
+        assessed = check or credit
+        if assessed is not None and not (assessed.complies or (credit is not None and credit.complies)):
+            problems.append(f"an earth fault at the far end is not cleared within {assessed.required_time_s:g} s: "
+                            f"Zs = {earth_loop:.3g} ohm gives {assessed.fault_current_a:.3g} A")
     return FaultReport(
         line_neutral_loop_ohm=z_ln, prospective_short_circuit_a=s.nominal_voltage_v / z_ln,
         earth_loop_ohm=earth_loop, disconnection=disconnection, earth_fault=check,
-        conductor_temperature_c=FAULT_TEMPERATURE_C, problems=tuple(problems),
+        conductor_temperature_c=FAULT_TEMPERATURE_C, problems=tuple(problems), plug_fuse_credit=credit,
     )
 
 
@@ -239,8 +248,13 @@ def _assumptions(chain: Chain, settled: bool) -> tuple[str, ...]:
         "The protective conductor of each lead has the same cross-section as its line conductor (usual for cords).",
         "Voltage drop is measured from the origin socket under load; the fixed installation's own drop upstream of "
         "the socket is not included.",
-        "Plug fuses are checked for overload only; they are not credited with clearing an earth fault.",
+        "Plug fuses (BS 1362) are credited with clearing the far-end earth fault by their maximum operating "
+        "characteristic, straight in log-log between the published zone limits (conservative, common practice); "
+        "ratings without a held zone are not credited.",
     ]
+    if is_rlv(chain.supply.system):
+        found.append(f"Reduced low voltage site supply: U0 = {earth_fault_u0(chain.supply):g} V to earth, "
+                     "disconnection within 5 s (BS 7671:2018 411.8, a national rule); no 30 mA RCD required.")
     if any(a.heating is not None for a in chain.appliances):
         found.append("Heating tasks: all the electrical power an appliance draws goes into the task (no losses).")
     if chain.limits.hours_per_year is None and any(a.hours_per_year for a in chain.appliances):
@@ -266,11 +280,12 @@ def analyse_chain(chain: Chain, cords: CordLibrary | None = None) -> ChainReport
     failed = [f"lead {r.index} ({r.name}): {p}" for r in leads for p in r.problems]
     if not totals.drop_complies:
         failed.append(f"voltage drop {totals.total_drop_pct:.3g} % exceeds the {totals.drop_limit_pct:g} % limit")
-    failed += [p for p in fault.problems if fault.earth_fault is not None]
+    failed += [p for p in fault.problems if fault.earth_fault is not None or fault.plug_fuse_credit is not None]
     tables = {"iec60228-table3", "iec60228-table2", "conductor-materials", "bs7671-table4f3a",
               "bs7671-table4f3a-ambient", "bs7671-table4f1a-drums"}
     if fault.disconnection is not None and fault.disconnection.table_id:
         tables.add(fault.disconnection.table_id)
+    tables.update(plug_fuse_tables(chain, fault))
     if fault.earth_fault is not None:
         for route in (fault.earth_fault.overcurrent, fault.earth_fault.rcd):
             if route is not None:

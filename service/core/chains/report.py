@@ -8,6 +8,7 @@ from ..steps import Step  # noqa: F401  (re-exported: results carry their steps)
 
 from service.core.protection import DisconnectionTime, EarthFaultCheck
 
+from .plug_fuses import PlugFuseFaultCredit, PlugFuseOverload
 from .ratings import LeadRating
 
 
@@ -30,6 +31,7 @@ class LeadReport:
     overload_device_rating_a: float | None
     overload_protected: bool | None  # In <= Iz (IEC 60364-4-43 433.1); None when no device is known
     problems: tuple[str, ...]
+    plug_fuse: PlugFuseOverload | None = None  # the lead's own BS 1362 plug fuse and how it meets the current
 
     @property
     def passes(self) -> bool:
@@ -67,6 +69,7 @@ class FaultReport:
     earth_fault: EarthFaultCheck | None
     conductor_temperature_c: float
     problems: tuple[str, ...]
+    plug_fuse_credit: PlugFuseFaultCredit | None = None  # the far-end earth fault as the fastest plug fuse sees it
 
 
 @dataclass(frozen=True, slots=True)

@@ -48,8 +48,25 @@ def _lead(r) -> s.LeadOut:
             drum_note=None if rating.drum is None else rating.drum.reason,
             marked_wound_rating_used=rating.wound_rating_used, effective_a=rating.effective_a),
         loading_pct=r.loading_pct, overload_device=r.overload_device, overload_protected=r.overload_protected,
-        verdict="pass" if r.passes else "fail", problems=list(r.problems),
+        verdict="pass" if r.passes else "fail", problems=list(r.problems), plug_fuse=_plug_fuse(r.plug_fuse),
     )
+
+
+def _plug_fuse(p) -> s.PlugFuseOut | None:
+    if p is None:
+        return None
+    return s.PlugFuseOut(rated_current_a=p.rated_current_a, non_fusing_current_a=p.non_fusing_a,
+                         fusing_current_a=p.fusing_a, conventional_time_s=p.conventional_time_s, response=p.response,
+                         opens_within_s=p.opens_within_s, source=p.source)
+
+
+def _plug_fuse_earth_fault(c) -> s.PlugFuseEarthFaultOut | None:
+    if c is None:
+        return None
+    return s.PlugFuseEarthFaultOut(
+        device=c.device, earth_fault_current_a=c.fault_current_a, required_disconnection_time_s=c.required_time_s,
+        disconnecting_current_a=c.operating_current_a, max_earth_loop_ohm=c.max_zs_ohm,
+        clearing_time_s=c.clearing_time_s, disconnects=c.complies, basis=c.basis, source=c.source)
 
 
 def _appliance(a) -> s.ApplianceOut:
@@ -109,7 +126,9 @@ def result_of(report: ChainReport) -> s.LeadChainResult:
             line_neutral_loop_ohm=fault.line_neutral_loop_ohm,
             prospective_short_circuit_a=fault.prospective_short_circuit_a, earth_loop_ohm=fault.earth_loop_ohm,
             conductor_temperature_degc=fault.conductor_temperature_c, earth_fault=_earth_fault(report),
-            problems=list(fault.problems)),
+            problems=list(fault.problems),
+            earth_fault_voltage_v=None if fault.disconnection is None else fault.disconnection.u0_v,
+            plug_fuse_earth_fault=_plug_fuse_earth_fault(fault.plug_fuse_credit)),
         length_limits=[s.LengthLimitOut(size_label=x.size_label, lead_indices=list(x.lead_indices),
                                         by_voltage_drop_m=x.by_voltage_drop_m, by_disconnection_m=x.by_disconnection_m,
                                         greatest_m=x.greatest_m, governed_by=x.governed_by)
