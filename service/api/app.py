@@ -25,6 +25,7 @@ from service.api.routes.v1.raceways import raceway_fill_route
 from service.api.routes.v1.sizing import sizing_route_handlers
 from service.api.settings import Settings
 from service.core.conductors import default_library
+from service.core.cord_conductors import default_cord_conductors
 from service.core.cords import default_cords
 from service.core.sizing.nec import nec
 from service.core.sizing.regime import iec60364
@@ -45,6 +46,7 @@ def _load_data(app: Litestar) -> None:
     load_tables()
     default_library()
     default_cords()
+    default_cord_conductors()
     default_protection()
     default_plug_fuses()
     iec60364()

@@ -5,7 +5,7 @@ from __future__ import annotations
 from service.api.inputs import FieldReader, check_tt_loop
 from service.api.schemas.v1 import chains as s
 from service.core.chains import Appliance, Chain, HeatingTask, Lead, Limits, Reel, SourceImpedance, Supply
-from service.core.conductors import default_library
+from service.core.cord_conductors import cord_conductor
 from service.core.errors import CalcError
 from service.core.protection import RLV_MAX_LINE_VOLTAGE_V, default_protection, is_rlv, plug_fuse_rating_problem
 from service.core.protection.ratings import nonstandard_rating, standard_ratings
@@ -100,7 +100,7 @@ def _lead(reader: FieldReader, lead: s.LeadIn, k: int):
     conductor = None
     if len(reader.problems) == before:  # the size parsed: look it up
         try:
-            conductor = default_library().find(size, lead.material, lead.conductor_class)
+            conductor = cord_conductor(size, lead.material, lead.conductor_class)
         except CalcError as exc:
             reader.add(exc.blames[0].message if exc.blames else exc.detail, "leads", k, "size")
     reel = None

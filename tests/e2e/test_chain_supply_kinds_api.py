@@ -56,3 +56,12 @@ def test_an_rlv_supply_is_checked_at_its_voltage_to_earth(client):
     answer = client.post(URL, json=body).json()
     assert answer["fault"]["earth_fault_voltage_v"] == pytest.approx(63.5)
     assert answer["fault"]["earth_fault"]["required_disconnection_time_s"] == 5.0
+
+
+@pytest.mark.parametrize("size, amps", [("14 AWG", 18.0), ("1.25 mm^2", 13.0)])
+def test_awg_and_1_25_mm2_cords_are_analysed(client, size, amps):
+    # NEC 2023 Table 400.5(A)(1) column B: 14 AWG 18 A; BS 7671:2018 Table 4F3A: 1.25 mm² 13 A
+    body = {"supply": SOCKET, "leads": [{"length": "10 m", "size": size}], "appliances": [{"rated_power": "1 kW"}]}
+    response = client.post(URL, json=body)
+    assert response.status_code == 200, response.text
+    assert response.json()["leads"][0]["rating"]["base_a"] == amps

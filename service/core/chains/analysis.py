@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 from dataclasses import replace
 
+from service.core.cord_conductors import cord_assumption, cord_tables
 from service.core.cords import CORD_MAX_CONDUCTOR_C, CordLibrary, default_cords
 from service.core.errors import Blame, CalcError
 from service.core.network import NetworkError, Solution
@@ -215,7 +216,8 @@ def _steps(chain: Chain, leads, totals: ChainTotals, fault: FaultReport) -> tupl
     for r in leads:
         steps.append(Step(f"Lead {r.index} effective rating", "base x ambient factor x drum factor (or marked wound rating)",
                           r.rating.effective_a if r.rating.effective_a is not None else 0.0, "A",
-                          "BS 7671:2018 Table 4F3A, Table 4F1A note 2"))
+                          ("NEC 2023 Table 400.5(A)(1), Table 310.15(B)(1); BS 7671:2018 Table 4F1A note 2"
+                           if r.rating.base_source.startswith("NEC") else "BS 7671:2018 Table 4F3A, Table 4F1A note 2")))
         steps.append(Step(f"Lead {r.index} conductor temperature", "t_a + (t_max - t_a) (I / I_rating)^2",
                           r.conductor_temperature_c, "degC", "BS 7671:2018 Appendix 4, 6.1 (from memory)"))
         steps.append(Step(f"Lead {r.index} drop", "|V_in| - |V_out| (network solution)", r.drop_v, "V"))
@@ -255,6 +257,11 @@ def _assumptions(chain: Chain, settled: bool) -> tuple[str, ...]:
     if is_rlv(chain.supply.system):
         found.append(f"Reduced low voltage site supply: U0 = {earth_fault_u0(chain.supply):g} V to earth, "
                      "disconnection within 5 s (BS 7671:2018 411.8, a national rule); no 30 mA RCD required.")
+    found += sorted({a for lead in chain.leads if (a := cord_assumption(lead.conductor)) is not None})
+    if any(lead.conductor.size_system == "awg" for lead in chain.leads):
+        found.append("AWG cords are rated by NEC Table 400.5(A)(1) column B (two current-carrying conductors, the "
+                     "equipment grounding conductor not counted) at the 60 °C cord rating; a reel on its drum takes "
+                     "the BS 7671 Table 4F1A drum factors, the NEC giving none.")
     if any(a.heating is not None for a in chain.appliances):
         found.append("Heating tasks: all the electrical power an appliance draws goes into the task (no losses).")
     if chain.limits.hours_per_year is None and any(a.hours_per_year for a in chain.appliances):
@@ -286,6 +293,8 @@ def analyse_chain(chain: Chain, cords: CordLibrary | None = None) -> ChainReport
     if fault.disconnection is not None and fault.disconnection.table_id:
         tables.add(fault.disconnection.table_id)
     tables.update(plug_fuse_tables(chain, fault))
+    for lead in chain.leads:
+        tables.update(cord_tables(lead.conductor))
     if fault.earth_fault is not None:
         for route in (fault.earth_fault.overcurrent, fault.earth_fault.rcd):
             if route is not None:
