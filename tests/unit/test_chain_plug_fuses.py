@@ -107,3 +107,26 @@ def test_a_plug_fuse_too_slow_for_the_fault_is_not_credited():
     credit = report.fault.plug_fuse_credit
     assert 50.0 < credit.fault_current_a < 100.0 and not credit.complies
     assert report.verdict == "fail" and any("not cleared" in p for p in report.fault.problems)
+
+
+def test_the_fastest_device_in_the_fault_path_clears_the_fault():
+    # Series devices: the first to open clears the fault. A C32 guarantees 0.1 s only from 320 A (IEC 60898-1,
+    # 10 In); a 13 A plug fuse clears 100 A and more within 0.2 s (BS 1362:1973 zones).
+    from service.core.chains.plug_fuses import fastest_clearing, fault_path_devices
+    from service.core.protection import CircuitBreaker
+
+    chain = Chain(supply(), (Lead("a", 5.0, cord(2.5)), Lead("b", 5.0, cord(1.5), plug_fuse_a=13.0)), ())
+    origin = CircuitBreaker("C", 32.0)
+    assert len(fault_path_devices(chain, origin, last_lead=0)) == 1  # lead b's plug fuse is not upstream of lead a
+    path = fault_path_devices(chain, origin)
+    assert fastest_clearing(path, 200.0).time_s == pytest.approx(0.2) and "plug fuse" in fastest_clearing(path, 200.0).device
+    assert fastest_clearing(path, 400.0).time_s == pytest.approx(0.1) and "circuit-breaker" in fastest_clearing(path, 400.0).device
+    assert fastest_clearing(path, 20.0) is None  # below 1.9 In of the fuse and the breaker's range: nothing guaranteed
+
+
+def test_the_core_refuses_a_plug_fuse_rating_bs1362_does_not_have():
+    # BS 1362:1973 scope: ratings not exceeding 13 A; the error names the lead's field
+    chain = Chain(supply(), (Lead("a", 5.0, cord(2.5), plug_fuse_a=16.0),), (Appliance("lamp", 0, 100.0, 230.0),))
+    with pytest.raises(CalcError) as caught:
+        analyse_chain(chain)
+    assert caught.value.blames[0].location == ("leads", 0, "plug_fuse")

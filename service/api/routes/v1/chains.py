@@ -26,7 +26,8 @@ from service.core.chains import ChainReport, analyse_chain
 INLINE_CHAIN_ITEMS = 150
 
 CHAIN_CAUTIONS = (
-    "Temporary supplies need RCD protection: plug the chain into a 30 mA RCD-protected socket or use a portable RCD.",
+    "Temporary supplies need RCD protection: plug the chain into a 30 mA RCD-protected socket or use a portable RCD "
+    "(a reduced-low-voltage 110 V centre-tapped site supply is the exception, BS 7671 411.8).",
     "Unwind cable reels fully before connecting heavy loads: a wound drum traps heat and can melt the cable.",
     "Withdraw damaged leads, plugs and reels from use; do not repair a lead with tape or join leads with connectors "
     "not made for it.",
