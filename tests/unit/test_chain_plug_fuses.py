@@ -96,6 +96,8 @@ def test_the_plug_fuse_clears_a_far_end_earth_fault_the_breaker_cannot():
     assert credit is not None and credit.complies and credit.clearing_time_s == pytest.approx(0.2)
     assert credit.fault_current_a > 100.0
     assert not report.fault.problems and report.verdict == "pass"
+    assert not any("Shorten the chain" in r for r in report.recommendations)  # the fault is cleared in time
+    assert any("plug fuse" in step.name for step in report.steps)
 
 
 def test_a_plug_fuse_too_slow_for_the_fault_is_not_credited():

@@ -47,7 +47,8 @@ def recommendations(chain: Chain, leads: tuple[LeadReport, ...], appliances: tup
     if len(chain.appliances) > 1 and (not totals.drop_complies or any(not r.passes for r in leads)):
         found.append("Split the load: feed some appliances from a second socket on another circuit.")
     check = fault.earth_fault
-    if check is not None and not check.complies:
+    plug_fuse_clears = fault.plug_fuse_credit is not None and fault.plug_fuse_credit.complies
+    if check is not None and not check.complies and not plug_fuse_clears:
         usable = [f"{lim.size_label}: {lim.by_disconnection_m:.4g} m" for lim in limits if lim.by_disconnection_m is not None]
         found.append("Shorten the chain so the origin device still clears an earth fault at the far end"
                      + (f" (longest single lead that still disconnects: {'; '.join(usable)})" if usable else "")

@@ -235,6 +235,10 @@ def _steps(chain: Chain, leads, totals: ChainTotals, fault: FaultReport) -> tupl
             steps.append(Step("Current for disconnection", check.overcurrent.operating.basis,
                               check.overcurrent.operating.current_a, "A", check.overcurrent.operating.source))
             steps.append(Step("Maximum Zs for the origin device", check.max_zs_formula, check.overcurrent.max_zs_ohm, "ohm"))
+    credit = fault.plug_fuse_credit
+    if credit is not None and credit.operating_current_a is not None:
+        steps.append(Step(f"Current for disconnection by the {credit.device}", credit.basis,
+                          credit.operating_current_a, "A", credit.source))
     return tuple(steps)
 
 
