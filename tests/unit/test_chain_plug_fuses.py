@@ -132,3 +132,16 @@ def test_the_core_refuses_a_plug_fuse_rating_bs1362_does_not_have():
     with pytest.raises(CalcError) as caught:
         analyse_chain(chain)
     assert caught.value.blames[0].location == ("leads", 0, "plug_fuse")
+
+
+@given(st.floats(min_value=0.05, max_value=6.0), st.sampled_from([3.0, 13.0]))
+def test_adding_a_plug_fuse_never_makes_the_far_end_fault_worse(ze_ohm, rating):
+    # a device in series can only open the circuit sooner (common practice): with a plug fuse added, a far-end
+    # earth fault the origin device cleared is still cleared, and the fault problems never grow
+    leads = (Lead("reel", 12.0, cord(1.5)),)
+    bare = analyse_chain(Chain(supply(line_earth=SourceImpedance(ze_ohm)), leads, ()))
+    fused = analyse_chain(Chain(supply(line_earth=SourceImpedance(ze_ohm)),
+                                (Lead("reel", 12.0, cord(1.5), plug_fuse_a=rating),), ()))
+    assert len(fused.fault.problems) <= len(bare.fault.problems)
+    if bare.fault.earth_fault.complies:
+        assert not fused.fault.problems
