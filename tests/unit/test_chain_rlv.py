@@ -66,3 +66,14 @@ def test_a_standard_supply_is_unchanged():
     # IEC 60364-4-41:2005, Table 41.1: TN, 50 V < U0 <= 120 V, AC: 0.8 s
     report = analyse_chain(site("standard", 0.3))
     assert report.fault.earth_fault.u0_v == 110.0 and report.fault.earth_fault.required_time_s == 0.8
+
+
+def test_an_rcd_on_an_rlv_site_needs_zs_times_idn_within_50_v():
+    # BS 7671:2018, 411.8.3 (from memory): Zs x IΔn <= 50 V; 30 mA -> 1667 ohm, stricter than
+    # Cmin x U0 / IΔn = 0.95 x 55 / 0.03 = 1742 ohm (IEC 61008-1 Table 1: IΔn within 0.3 s)
+    s = Supply(nominal_voltage_v=110.0, frequency_hz=50.0, line_neutral=SourceImpedance(0.3),
+               line_earth=SourceImpedance(1700.0), earthing="TN-S", device_kind=None, device_rating_a=None,
+               rcd_sensitivity_a=0.03, system="rlv_single_phase_cte")
+    report = analyse_chain(Chain(s, (Lead("site lead", 2.0, cord(2.5)),), (Appliance("drill", 0, 700.0, 110.0),)))
+    assert report.fault.earth_fault.complies  # the break-time route alone passes
+    assert any("50 V" in p for p in report.fault.problems) and report.verdict == "fail"

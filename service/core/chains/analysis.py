@@ -28,7 +28,7 @@ from .circuit import FAULT_TEMPERATURE_C, appliance_id, lead_id, solve_chain
 from .lengths import length_limits
 from .model import Chain
 from .plug_fuses import plug_fuse_earth_fault, plug_fuse_overload, plug_fuse_problem, plug_fuse_tables
-from .supply_rules import disconnection_rule, earth_fault_u0
+from .supply_rules import disconnection_rule, earth_fault_u0, rlv_rcd_problem
 from .ratings import LeadRating, chain_ratings
 from .report import (
     ApplianceReport,
@@ -177,6 +177,8 @@ def _fault_report(chain: Chain, solution: Solution) -> FaultReport:
             raise _relocated(exc, ("supply",)) from None
         if disconnection.time_s is not None and plug_fused and not (check is not None and check.complies):
             credit = plug_fuse_earth_fault(chain, CMIN_LOW_VOLTAGE * u0, earth_loop, disconnection.time_s)
+        if (rlv_problem := rlv_rcd_problem(s, earth_loop, check)) is not None:
+            problems.append(rlv_problem)
         assessed = check or credit
         if assessed is not None and not (assessed.complies or (credit is not None and credit.complies)):
             problems.append(f"an earth fault at the far end is not cleared within {assessed.required_time_s:g} s: "

@@ -7,7 +7,8 @@ must disconnect within 5 s (service.core.protection.rlv).
 
 from __future__ import annotations
 
-from service.core.protection import DisconnectionTime, is_rlv, required_disconnection_time, rlv_disconnection_rule, rlv_u0
+from service.core.protection import DisconnectionTime, EarthFaultCheck, is_rlv, required_disconnection_time
+from service.core.protection.rlv import RLV_RCD_SOURCE, rlv_disconnection_rule, rlv_rcd_max_zs, rlv_u0
 
 from .model import Supply
 
@@ -21,3 +22,14 @@ def disconnection_rule(supply: Supply, rated_current_a: float) -> DisconnectionT
     if is_rlv(supply.system):
         return rlv_disconnection_rule(supply.system, supply.earthing, rated_current_a)
     return required_disconnection_time(supply.earthing, supply.nominal_voltage_v, "socket_outlets", rated_current_a)
+
+
+def rlv_rcd_problem(supply: Supply, zs_ohm: float, check: EarthFaultCheck | None) -> str | None:
+    """On an RLV supply cleared only by its RCD, the 50 V / IΔn limit of BS 7671 411.8.3 applies as well."""
+    if check is None or check.route != "rcd" or not is_rlv(supply.system) or supply.rcd_sensitivity_a is None:
+        return None
+    limit = rlv_rcd_max_zs(supply.rcd_sensitivity_a)
+    if zs_ohm <= limit:
+        return None
+    return (f"an earth fault at the far end: Zs = {zs_ohm:.4g} ohm exceeds 50 V / IΔn = {limit:.4g} ohm for the RCD "
+            f"on a reduced-low-voltage supply ({RLV_RCD_SOURCE})")

@@ -63,6 +63,15 @@ def rlv_disconnection_rule(system: str, earthing: str, rated_current_a: float) -
     )
 
 
+RLV_RCD_LIMIT_V = 50.0
+RLV_RCD_SOURCE = "BS 7671:2018, 411.8.3 (from memory): an RCD protecting an RLV circuit needs Zs x IΔn <= 50 V"
+
+
+def rlv_rcd_max_zs(rated_residual_current_a: float) -> float:
+    """Largest Zs for an RCD on an RLV circuit, 50 V / IΔn (stricter than Cmin x U0 / IΔn at U0 = 55 V)."""
+    return RLV_RCD_LIMIT_V / require_positive(rated_residual_current_a, ("rcd",), "IΔn")
+
+
 def rlv_max_zs(device: Device, system: str, cmin: float = CMIN_LOW_VOLTAGE) -> tuple[float, OperatingCurrent]:
     """Maximum earth-fault loop impedance of an RLV circuit: Zs,max = Cmin x U0 / Ia(5 s) (BS 7671 411.8.3)."""
     op = operating_current(device, RLV_DISCONNECTION_S)
