@@ -25,10 +25,11 @@ from service.api.routes.v1.raceways import raceway_fill_route
 from service.api.routes.v1.sizing import sizing_route_handlers
 from service.api.settings import Settings
 from service.core.conductors import default_library
+from service.core.cord_conductors import default_cord_conductors
 from service.core.cords import default_cords
 from service.core.sizing.nec import nec
 from service.core.sizing.regime import iec60364
-from service.core.protection import default_protection
+from service.core.protection import default_plug_fuses, default_protection
 from service.core.data import load_tables
 
 API_DESCRIPTION = (
@@ -45,7 +46,9 @@ def _load_data(app: Litestar) -> None:
     load_tables()
     default_library()
     default_cords()
+    default_cord_conductors()
     default_protection()
+    default_plug_fuses()
     iec60364()
     nec()
     app.state.ready = True

@@ -5,9 +5,9 @@ from __future__ import annotations
 from service.api.inputs import FieldReader, check_tt_loop
 from service.api.schemas.v1 import chains as s
 from service.core.chains import Appliance, Chain, HeatingTask, Lead, Limits, Reel, SourceImpedance, Supply
-from service.core.conductors import default_library
+from service.core.cord_conductors import cord_conductor
 from service.core.errors import CalcError
-from service.core.protection import default_protection
+from service.core.protection import RLV_MAX_LINE_VOLTAGE_V, default_protection, is_rlv, plug_fuse_rating_problem
 from service.core.protection.ratings import nonstandard_rating, standard_ratings
 from service.units import (
     AC_POWER,
@@ -82,7 +82,16 @@ def _supply(reader: FieldReader, supply: s.SupplyIn) -> Supply:
             supply.rcd.rated_residual_current, RESIDUAL_CURRENT, "supply", "rcd", "rated_residual_current"),
         ambient_c=reader.quantity(supply.ambient_temperature, TEMPERATURE, "supply", "ambient_temperature"),
         electrode_resistance_ohm=ra,
+        system=_system(reader, supply, u0),
     )
+
+
+def _system(reader: FieldReader, supply: s.SupplyIn, u0: float) -> str:
+    """The supply kind; an RLV supply is at most 110 V between lines (BS 7671:2018 411.8.1.2, from memory)."""
+    if is_rlv(supply.system) and u0 == u0 and u0 > RLV_MAX_LINE_VOLTAGE_V * (1 + 1e-9):
+        reader.add(f"a reduced-low-voltage supply ({supply.system}) is at most {RLV_MAX_LINE_VOLTAGE_V:g} V between "
+                   f"lines: give nominal_voltage as 110 V, not {u0:g} V", "supply", "nominal_voltage")
+    return supply.system
 
 
 def _lead(reader: FieldReader, lead: s.LeadIn, k: int):
@@ -91,7 +100,7 @@ def _lead(reader: FieldReader, lead: s.LeadIn, k: int):
     conductor = None
     if len(reader.problems) == before:  # the size parsed: look it up
         try:
-            conductor = default_library().find(size, lead.material, lead.conductor_class)
+            conductor = cord_conductor(size, lead.material, lead.conductor_class)
         except CalcError as exc:
             reader.add(exc.blames[0].message if exc.blames else exc.detail, "leads", k, "size")
     reel = None
@@ -104,8 +113,16 @@ def _lead(reader: FieldReader, lead: s.LeadIn, k: int):
         conductor=conductor,
         marked_rating_a=_optional(reader, lead.marked_rating, CURRENT, "leads", k, "marked_rating"),
         reel=reel,
-        plug_fuse_a=_optional(reader, lead.plug_fuse, CURRENT, "leads", k, "plug_fuse"),
+        plug_fuse_a=_plug_fuse(reader, lead.plug_fuse, k),
     )
+
+
+def _plug_fuse(reader: FieldReader, value, k: int) -> float | None:
+    """A plug fuse's rating, refused unless BS 1362 has it (13 A at most)."""
+    rating = _optional(reader, value, CURRENT, "leads", k, "plug_fuse")
+    if rating is not None and rating == rating and (problem := plug_fuse_rating_problem(rating)) is not None:
+        reader.add(problem, "leads", k, "plug_fuse")
+    return rating
 
 
 def _heating(reader: FieldReader, task: s.HeatingTaskIn | None, j: int) -> HeatingTask | None:

@@ -30,6 +30,9 @@ WoundState = Literal["none", "partly", "fully"]
 CORDS_TABLE = "bs7671-table4f3a"
 AMBIENT_TABLE = "bs7671-table4f3a-ambient"
 DRUM_TABLE = "bs7671-table4f1a-drums"
+NEC_CORDS_TABLE = "nec-table400-5a1"
+NEC_AMBIENT_TABLE = "nec-table310-15-b1-1"
+NEC_CORD_RATING_C = 60  # flexible cords are rated 60 °C unless marked otherwise (UL listing, as a trade guide says)
 
 
 @dataclass(frozen=True, slots=True)
@@ -57,6 +60,14 @@ class CordLibrary:
         drums = tables[DRUM_TABLE].records()
         self.layer_factors = tuple(
             (int(r["layers"]), float(r["factor"])) for r in drums if r["drum"] == "cylindrical, ventilated")
+        # NEC Table 400.5(A)(1): a single-phase lead has two current-carrying conductors (column B)
+        self.nec_two_conductor_a = {f"{r['size']} AWG": float(r["two_conductors_a"])
+                                    for r in tables[NEC_CORDS_TABLE].records()}
+        self.nec_three_conductor_a = {f"{r['size']} AWG": float(r["three_conductors_a"])
+                                      for r in tables[NEC_CORDS_TABLE].records()}
+        self.nec_ambient_steps = tuple((float(r["ambient_degc"]), float(r[f"rating_{NEC_CORD_RATING_C}"]))
+                                       for r in tables[NEC_AMBIENT_TABLE].records()
+                                       if r[f"rating_{NEC_CORD_RATING_C}"] is not None)
         self._validate()
 
     def _validate(self) -> None:
@@ -68,6 +79,9 @@ class CordLibrary:
         factors = [f for _, f in self.ambient_steps]
         if temps != sorted(temps) or factors != sorted(factors, reverse=True) or factors[0] != 1.0:
             raise DataTableError(f"{AMBIENT_TABLE}: factors must fall from 1.0 as the ambient rises")
+        two, three = list(self.nec_two_conductor_a.values()), list(self.nec_three_conductor_a.values())
+        if two != sorted(two) or three != sorted(three) or any(not 0 < a < b for a, b in zip(three, two)):
+            raise DataTableError(f"{NEC_CORDS_TABLE}: ampacities must rise with size, column A below column B")
         layers = [n for n, _ in self.layer_factors]
         drum = [f for _, f in self.layer_factors]
         if layers != list(range(1, len(layers) + 1)) or drum != sorted(drum, reverse=True) or not all(0 < f <= 1 for f in drum):
@@ -87,6 +101,18 @@ class CordLibrary:
         for temperature, factor in self.ambient_steps:
             if ambient_c <= temperature:
                 return Factor(factor, f"ambient {ambient_c:g} °C taken at the next tabulated {temperature:g} °C", AMBIENT_TABLE)
+        return None
+
+    def nec_ambient_factor(self, ambient_c: float) -> Factor | None:
+        """NEC 400.5(A): Table 310.15(B)(1) factors of a 60 °C cord, taken at the next tabulated ambient at or
+        above; 1 at or below 30 °C (the factors above 1 for cooler air are not taken: conservative)."""
+        if ambient_c <= CORD_REFERENCE_AMBIENT_C:
+            return Factor(1.0, f"ambient {ambient_c:g} °C is at or below 30 °C: factor 1 (NEC factors above 1 for "
+                               "cooler air not taken)", NEC_AMBIENT_TABLE)
+        for temperature, factor in self.nec_ambient_steps:
+            if ambient_c <= temperature:
+                return Factor(factor, f"ambient {ambient_c:g} °C taken at the next tabulated {temperature:g} °C, "
+                                      f"{NEC_CORD_RATING_C} °C cord", NEC_AMBIENT_TABLE)
         return None
 
     def drum_factor(self, wound: WoundState, layers: int | None) -> Factor:

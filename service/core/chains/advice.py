@@ -51,7 +51,8 @@ def recommendations(chain: Chain, leads: tuple[LeadReport, ...], appliances: tup
     if len(chain.appliances) > 1 and (not totals.drop_complies or any(_too_hot(r) for r in leads)):
         found.append("Split the load: feed some appliances from a second socket on another circuit.")
     check = fault.earth_fault
-    if check is not None and not check.complies:
+    plug_fuse_clears = fault.plug_fuse_credit is not None and fault.plug_fuse_credit.complies
+    if check is not None and not check.complies and not plug_fuse_clears:
         usable = [f"{lim.size_label}: {lim.by_overcurrent_earth_fault_m:.4g} m" for lim in limits
                   if lim.by_overcurrent_earth_fault_m is not None]
         found.append("Shorten the chain so the origin device still clears an earth fault at the far end"
@@ -64,7 +65,9 @@ def recommendations(chain: Chain, leads: tuple[LeadReport, ...], appliances: tup
         found.append("Shorten the chain or use leads with a larger conductor so the origin device clears a "
                      "line-neutral fault at the far end" + (f" (longest single lead: {'; '.join(usable)})" if usable else "")
                      + ", or feed it from a socket on a lower-rated device: an RCD does not see this fault.")
-    if chain.supply.rcd_sensitivity_a is None:
+    if chain.supply.system != "standard":
+        pass  # reduced low voltage (BS 7671 411.8): no 30 mA RCD for additional protection is required
+    elif chain.supply.rcd_sensitivity_a is None:
         found.append("Plug the chain into a socket protected by a 30 mA RCD, or use a portable RCD at the socket: "
                      "IEC 60364-4-41 (411.3.3) requires additional protection for socket-outlets up to 32 A.")
     elif chain.supply.rcd_sensitivity_a > 0.030:

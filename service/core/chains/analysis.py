@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 from dataclasses import replace
 
+from service.core.cord_conductors import cord_assumption, cord_tables
 from service.core.cords import CORD_MAX_CONDUCTOR_C, CordLibrary, default_cords
 from service.core.errors import Blame, CalcError
 from service.core.network import NetworkError, Solution
@@ -18,8 +19,9 @@ from service.core.protection import (
     CircuitBreaker,
     GGFuse,
     ResidualCurrentDevice,
+    CMIN_LOW_VOLTAGE,
     earth_fault_check,
-    required_disconnection_time,
+    is_rlv,
 )
 from service.core.protection.adiabatic import ADIABATIC_LIMIT_S
 
@@ -27,6 +29,8 @@ from .circuit import FAULT_TEMPERATURE_C, appliance_id, conductor_temperature, l
 from .codes import ChainCheck, missing_of, verdict_of
 from .lengths import length_limits
 from .model import Chain
+from .plug_fuses import plug_fuse_earth_fault, plug_fuse_of, plug_fuse_overload, plug_fuse_problem, plug_fuse_tables
+from .supply_rules import disconnection_rule, earth_fault_u0, rlv_rcd_limit, rlv_rcd_problem
 from .ratings import LeadRating, chain_ratings
 from .report import (
     ApplianceReport,
@@ -111,12 +115,14 @@ def _lead_reports(chain: Chain, ratings: tuple[LeadRating, ...], solution: Solut
                                 f"{CORD_MAX_CONDUCTOR_C:g} °C limit)")
         checks = [ChainCheck("lead_temperature", rating.effective_a is not None and current <= rating.effective_a * (1 + 1e-9),
                              heat, CORD_MAX_CONDUCTOR_C, "degC", RATING_SOURCE)]
+        plug_fuse = plug_fuse_overload(lead, k, current)
         if lead.plug_fuse_a is not None:
-            fuse_ok = current <= lead.plug_fuse_a
+            fuse_ok = current <= lead.plug_fuse_a * (1 + 1e-9)
             checks.append(ChainCheck("plug_fuse_coordination", fuse_ok, current, lead.plug_fuse_a, "A",
-                                     "common practice: the lead's current within its plug fuse's rating"))
-            if not fuse_ok:
-                problems.append(f"its {lead.plug_fuse_a:g} A plug fuse will open: {current:.3g} A flows")
+                                     "IEC 60364-4-43:2008, 433.1 (Ib <= In); how the fuse meets the current: BS 1362 "
+                                     "time-current zones (plug_fuse)"))
+        if (problem := plug_fuse_problem(plug_fuse)) is not None:
+            problems.append(problem)
         device, overload, overload_problems = overload_checks(rating.effective_a, upstream)
         checks += overload
         problems += overload_problems
@@ -131,7 +137,7 @@ def _lead_reports(chain: Chain, ratings: tuple[LeadRating, ...], solution: Solut
             rating=rating, loading_pct=loading, overload_device=None if device is None else device.label,
             overload_device_rating_a=None if device is None else device.rated_current_a,
             overload_protected={"pass": True, "fail": False}.get(verdict_of(overload)),
-            problems=tuple(problems), checks=tuple(checks),
+            problems=tuple(problems), checks=tuple(checks), plug_fuse=plug_fuse,
         ))
     return tuple(reports)
 
@@ -172,7 +178,8 @@ def _drop_source(chain: Chain) -> str:
     return f"{limit}, counted from the origin of the installation (upstream drop + the chain's share)"
 
 
-def _earth_fault_verdict(chain: Chain, earth_loop: float | None, check, has_protection: bool) -> ChainCheck:
+def _earth_fault_verdict(chain: Chain, earth_loop: float | None, check, has_protection: bool,
+                         credit=None) -> ChainCheck:
     s = chain.supply
     source = "IEC 60364-4-41:2005, 411.4.4 and Table 41.1: If = Cmin x U0 / Zs >= Ia"
     missing = []
@@ -180,6 +187,9 @@ def _earth_fault_verdict(chain: Chain, earth_loop: float | None, check, has_prot
         missing.append("supply.earth_loop_impedance")
     if not has_protection:
         missing.append("supply.device")
+    if credit is not None and credit.complies:  # a plug fuse whose own plug the origin protects clears it in time
+        return ChainCheck("earth_fault_disconnection", True, credit.fault_current_a, credit.operating_current_a, "A",
+                          f"{source}; {credit.device}: {credit.basis} ({credit.source})")
     if check is None:
         return ChainCheck("earth_fault_disconnection", None, None, None, "A", source, tuple(missing))
     routes = [r for r in (check.overcurrent, check.rcd) if r is not None]
@@ -191,6 +201,65 @@ def _earth_fault_verdict(chain: Chain, earth_loop: float | None, check, has_prot
                           source + "; TT: RA x IΔn <= 50 V (411.5.3) not assessed", ("supply.electrode_resistance",))
     return ChainCheck("earth_fault_disconnection", check.complies, check.fault_current_a, shown.operating.current_a,
                       "A", source)
+
+
+def _origin_earth_fault(s, u0: float, zs_ohm: float, device, rcd, time_s: float):
+    """The earth fault at a point of loop impedance ``zs_ohm`` against the origin's devices (RCD included)."""
+    tt_with_ra = s.earthing == "TT" and rcd is not None and s.electrode_resistance_ohm is not None
+    return earth_fault_check(u0, zs_ohm, device, time_s, rcd=rcd,
+                             ra_ohm=s.electrode_resistance_ohm if tt_with_ra else None,
+                             earthing=s.earthing if (s.earthing != "TT" or tt_with_ra) else None)
+
+
+def _covered_by_upstream(chain: Chain, u0: float, device, rcd, time_s: float):
+    """covered(k): an earth fault at lead k's plug (the outlet of lead k - 1) is cleared in time upstream of it.
+
+    The loop there is the socket's Ze plus the line and protective conductors of leads 0 to k - 1 at the fault
+    temperature (IEC 60364-4-41 411.4.4: Zs = Ze + R1 + R2); lead 0's plug is in the origin socket itself."""
+    ze = chain.supply.line_earth.magnitude_ohm
+
+    def covered(k: int) -> bool:
+        if k == 0:
+            return True
+        if device is None and rcd is None:
+            return False
+        return _origin_earth_fault(chain.supply, u0, _upstream_loop_ohm(chain, ze, k), device, rcd, time_s).complies
+    return covered
+
+
+def _upstream_loop_ohm(chain: Chain, start_ohm: float, k: int) -> float:
+    """The loop impedance at lead k's plug: ``start_ohm`` at the socket plus the go and return conductors of leads
+    0 to k - 1 at the fault temperature (a cord's line, neutral and protective conductors are of one size)."""
+    return start_ohm + sum(2.0 * lead.conductor.resistance_per_m_at(FAULT_TEMPERATURE_C) * lead.length_m
+                           for lead in chain.leads[:k])
+
+
+def _plug_fuse_line_neutral(chain: Chain, z_ln: float, device, time_s: float):
+    """The far-end line-neutral fault as the best plug fuse clears it, or None when none can be credited.
+
+    A plug fuse in lead k's plug interrupts the fault current for every cord it flows through, but guards only
+    what follows its plug: it counts where a line-neutral fault at that plug is cleared in time by the origin
+    device (lead 0's plug is in the socket itself)."""
+    u = chain.supply.nominal_voltage_v
+    best = None
+    for k, lead in enumerate(chain.leads):
+        fuse = plug_fuse_of(lead, k)
+        if fuse is None:
+            continue
+        if k > 0:
+            if device is None:
+                continue
+            at_plug = _upstream_loop_ohm(chain, chain.supply.line_neutral.magnitude_ohm, k)
+            if not line_neutral_fault(u, at_plug, device, time_s).complies:
+                continue
+        try:
+            found = line_neutral_fault(u, z_ln, fuse, time_s)
+        except CalcError:  # no time-current zone held for this rating: it guarantees nothing in time
+            continue
+        rank = (found.complies, -(found.clearing_time_s if found.clearing_time_s is not None else float("inf")))
+        if best is None or rank > best[0]:
+            best = (rank, found)
+    return None if best is None or not best[1].complies else best[1]
 
 
 def _line_neutral_time(disconnection) -> float:
@@ -212,29 +281,38 @@ def _fault_report(chain: Chain, solution: Solution) -> FaultReport:
     earth_loop = solution.thevenin[1].impedance_ohm if s.line_earth is not None else None
     device = _overcurrent_device(chain)
     rcd = None if s.rcd_sensitivity_a is None else ResidualCurrentDevice(s.rcd_sensitivity_a)
-    disconnection = check = line_neutral = None
+    disconnection = check = line_neutral = credit = None
+    u0 = earth_fault_u0(s)
+    plug_fused = any(lead.plug_fuse_a is not None for lead in chain.leads)
     rating = s.device_rating_a if s.device_rating_a is not None else 16.0
     try:
-        if device is not None or rcd is not None:
-            disconnection = required_disconnection_time(s.earthing, s.nominal_voltage_v, "socket_outlets", rating)
+        if device is not None or rcd is not None or plug_fused:
+            disconnection = disconnection_rule(s, rating)
         if earth_loop is None:
             problems.append("the socket's earth-fault loop impedance is not known: disconnection not assessed")
-        elif device is None and rcd is None:
+        elif device is None and rcd is None and not plug_fused:
             problems.append("no protective device given at the origin: disconnection not assessed")
-        elif disconnection.time_s is not None:
-            tt_with_ra = s.earthing == "TT" and rcd is not None and s.electrode_resistance_ohm is not None
-            check = earth_fault_check(
-                s.nominal_voltage_v, earth_loop, device, disconnection.time_s, rcd=rcd,
-                ra_ohm=s.electrode_resistance_ohm if tt_with_ra else None,
-                earthing=s.earthing if (s.earthing != "TT" or tt_with_ra) else None)
+        elif disconnection.time_s is not None and (device is not None or rcd is not None):
+            check = _origin_earth_fault(s, u0, earth_loop, device, rcd, disconnection.time_s)
         if device is not None:
             line_neutral = line_neutral_fault(s.nominal_voltage_v, z_ln, device, _line_neutral_time(disconnection))
     except CalcError as exc:
         raise _relocated(exc, ("supply",)) from None
-    if check is not None and not check.complies:
-        problems.append(f"an earth fault at the far end is not cleared within {check.required_time_s:g} s: "
-                        f"Zs = {earth_loop:.3g} ohm gives {check.fault_current_a:.3g} A")
-    if device is None:
+    # Plug fuses: their own errors already name the lead's field (leads/k/plug_fuse).
+    if plug_fused and not (line_neutral is not None and line_neutral.complies):
+        line_neutral = _plug_fuse_line_neutral(chain, z_ln, device, _line_neutral_time(disconnection)) or line_neutral
+    if (earth_loop is not None and disconnection is not None and disconnection.time_s is not None and plug_fused
+            and not (check is not None and check.complies)):
+        covered = _covered_by_upstream(chain, u0, device, rcd, disconnection.time_s)
+        credit = plug_fuse_earth_fault(chain, CMIN_LOW_VOLTAGE * u0, earth_loop, disconnection.time_s, covered)
+    rlv_problem = rlv_rcd_problem(s, earth_loop, check)
+    if rlv_problem is not None:
+        problems.append(rlv_problem)
+    assessed = check or credit
+    if assessed is not None and not (assessed.complies or (credit is not None and credit.complies)):
+        problems.append(f"an earth fault at the far end is not cleared within {assessed.required_time_s:g} s: "
+                        f"Zs = {earth_loop:.3g} ohm gives {assessed.fault_current_a:.3g} A")
+    if line_neutral is None:
         problems.append("no overcurrent device given at the origin: a line-neutral fault at the far end is not "
                         "assessed (an RCD does not see it)")
     elif line_neutral is not None and not line_neutral.complies:
@@ -243,13 +321,15 @@ def _fault_report(chain: Chain, solution: Solution) -> FaultReport:
         problems.append(f"a line-neutral fault at the far end gives {line_neutral.fault_current_a:.3g} A, but the "
                         f"{line_neutral.device} needs {line_neutral.operating.current_a:.3g} A to clear within "
                         f"{line_neutral.required_time_s:g} s, and {took}")
-    checks = (_earth_fault_verdict(chain, earth_loop, check, device is not None or rcd is not None),
-              line_neutral_check(line_neutral, _line_neutral_time_source(disconnection)))
+    earth = _earth_fault_verdict(chain, earth_loop, check, device is not None or rcd is not None or plug_fused, credit)
+    if rlv_problem is not None and (limit := rlv_rcd_limit(s)) is not None:  # the RCD route fails its 50 V rule
+        earth = ChainCheck("earth_fault_disconnection", False, earth_loop, limit[0], "ohm", limit[1])
+    checks = (earth, line_neutral_check(line_neutral, _line_neutral_time_source(disconnection)))
     return FaultReport(
         line_neutral_loop_ohm=z_ln, prospective_short_circuit_a=s.nominal_voltage_v / z_ln,
         earth_loop_ohm=earth_loop, disconnection=disconnection, earth_fault=check,
         conductor_temperature_c=FAULT_TEMPERATURE_C, problems=tuple(problems), line_neutral=line_neutral,
-        checks=checks,
+        checks=checks, plug_fuse_credit=credit,
     )
 
 
@@ -299,6 +379,10 @@ def _fault_steps(fault: FaultReport) -> list[Step]:
             steps.append(Step("Current for disconnection", check.overcurrent.operating.basis,
                               check.overcurrent.operating.current_a, "A", check.overcurrent.operating.source))
             steps.append(Step("Maximum Zs for the origin device", check.max_zs_formula, check.overcurrent.max_zs_ohm, "ohm"))
+    credit = fault.plug_fuse_credit
+    if credit is not None and credit.operating_current_a is not None:
+        steps.append(Step(f"Current for disconnection by the {credit.device}", credit.basis,
+                          credit.operating_current_a, "A", credit.source))
     return steps
 
 
@@ -307,7 +391,8 @@ def _steps(chain: Chain, leads, totals: ChainTotals, fault: FaultReport) -> tupl
     for r in leads:
         steps.append(Step(f"Lead {r.index} effective rating", "base x ambient factor x drum factor (or marked wound rating)",
                           r.rating.effective_a if r.rating.effective_a is not None else 0.0, "A",
-                          "BS 7671:2018 Table 4F3A, Table 4F1A note 2"))
+                          ("NEC 2023 Table 400.5(A)(1), Table 310.15(B)(1); BS 7671:2018 Table 4F1A note 2"
+                           if r.rating.base_source.startswith("NEC") else "BS 7671:2018 Table 4F3A, Table 4F1A note 2")))
         steps.append(Step(f"Lead {r.index} conductor temperature", "t_a + (t_max - t_a) (I / I_rating)^2",
                           r.conductor_temperature_c, "degC", "BS 7671:2018 Appendix 4, 6.1 (from memory)"))
         steps.append(Step(f"Lead {r.index} drop", "|V_in| - |V_out| (network solution)", r.drop_v, "V"))
@@ -328,9 +413,11 @@ def _assumptions(chain: Chain, settled: bool) -> tuple[str, ...]:
         f"Fault loops use conductors at {CORD_MAX_CONDUCTOR_C:g} °C, the cord's maximum operating temperature, "
         "which gives the highest loop impedance in service (conservative).",
         "The protective conductor of each lead has the same cross-section as its line conductor (usual for cords).",
-        "Plug fuses are checked for overload only; they are not credited with clearing a fault, and their "
-        "conventional fusing current I2 is not held, so a lead that only a plug fuse could protect against overload "
-        "is not assessed for I2 <= 1.45 Iz.",
+        "Plug fuses (BS 1362) are credited with clearing the far-end earth fault by their maximum operating "
+        "characteristic, straight in log-log between the published zone limits (conservative, common practice), "
+        "and only where the devices upstream clear an earth fault at the fuse's own plug in time; ratings without a "
+        "held zone are not credited. Their conventional fusing current is not taken as I2 of IEC 60364-4-43, so a "
+        "lead that only a plug fuse could protect against overload is not assessed for I2 <= 1.45 Iz.",
         "The cords' short-circuit withstand is checked for a line-neutral fault at the far end, with I² t taken as "
         "If² x the origin device's guaranteed clearing time (an upper bound of its let-through energy).",
         "The line-neutral fault is held to the disconnection time of Table 41.1 for the supply (common practice).",
@@ -338,6 +425,14 @@ def _assumptions(chain: Chain, settled: bool) -> tuple[str, ...]:
     if chain.limits.upstream_voltage_drop_pct is None:
         found.append("upstream_voltage_drop not given: the fixed wiring's drop from the origin of the installation "
                      "to the socket is taken as 0 %, so the chain has the whole of the limit (give it to be sure).")
+    if is_rlv(chain.supply.system):
+        found.append(f"Reduced low voltage site supply: U0 = {earth_fault_u0(chain.supply):g} V to earth, "
+                     "disconnection within 5 s (BS 7671:2018 411.8, a national rule); no 30 mA RCD required.")
+    found += sorted({a for lead in chain.leads if (a := cord_assumption(lead.conductor)) is not None})
+    if any(lead.conductor.size_system == "awg" for lead in chain.leads):
+        found.append("AWG cords are rated by NEC Table 400.5(A)(1) column B (two current-carrying conductors, the "
+                     "equipment grounding conductor not counted) at the 60 °C cord rating; a reel on its drum takes "
+                     "the BS 7671 Table 4F1A drum factors, the NEC giving none.")
     if any(a.heating is not None for a in chain.appliances):
         found.append("Heating tasks: all the electrical power an appliance draws goes into the task (no losses).")
     if chain.limits.hours_per_year is None and any(a.hours_per_year for a in chain.appliances):
@@ -345,10 +440,13 @@ def _assumptions(chain: Chain, settled: bool) -> tuple[str, ...]:
     return tuple(found)
 
 
-def _table_ids(fault: FaultReport) -> tuple[str, ...]:
+def _table_ids(chain: Chain, fault: FaultReport) -> tuple[str, ...]:
     tables = {"iec60228-table3", "iec60228-table2", "conductor-materials", "bs7671-table4f3a",
               "bs7671-table4f3a-ambient", "bs7671-table4f1a-drums", "iec60364-4-43-table43a",
               "iec60898-1-conventional-currents", "iec60269-1-conventional-currents"}
+    tables.update(plug_fuse_tables(chain, fault))
+    for lead in chain.leads:
+        tables.update(cord_tables(lead.conductor))
     if fault.disconnection is not None and fault.disconnection.table_id:
         tables.add(fault.disconnection.table_id)
     if fault.line_neutral is not None:
@@ -392,7 +490,7 @@ def analyse_chain(chain: Chain, cords: CordLibrary | None = None) -> ChainReport
         unsupplied=(),
         recommendations=recommendations(chain, leads, appliances, totals, fault, limits, cords),
         steps=_steps(chain, leads, totals, fault), assumptions=_assumptions(chain, solved.temperatures_settled),
-        table_ids=_table_ids(fault), temperature_rounds=solved.rounds, temperatures_settled=solved.temperatures_settled,
+        table_ids=_table_ids(chain, fault), temperature_rounds=solved.rounds, temperatures_settled=solved.temperatures_settled,
         solver_iterations=solution.iterations, max_kcl_residual_a=solution.max_kcl_residual_a,
         power_balance_residual_va=solution.power_balance_residual_va,
     )
@@ -448,7 +546,7 @@ def _collapsed(chain: Chain, ratings: tuple[LeadRating, ...], exc: NetworkError)
         recommendations=("Shorten the chain, use leads with a larger conductor, move the appliance to a nearer outlet, "
                          "or split the load across two sockets.",),
         steps=tuple(_fault_steps(fault)), assumptions=_assumptions(chain, solved.temperatures_settled),
-        table_ids=_table_ids(fault), temperature_rounds=0, temperatures_settled=False,
+        table_ids=_table_ids(chain, fault), temperature_rounds=0, temperatures_settled=False,
         solver_iterations=int(exc.data.get("iterations", 0) or 0), max_kcl_residual_a=math.nan,
         power_balance_residual_va=math.nan,
     )

@@ -47,6 +47,7 @@ class Supply:
     rcd_sensitivity_a: float | None
     ambient_c: float = 30.0
     electrode_resistance_ohm: float | None = None  # RA, for a TT supply
+    system: str = "standard"  # or a reduced-low-voltage site supply: "rlv_single_phase_cte", "rlv_three_phase_star"
 
 
 @dataclass(frozen=True, slots=True)

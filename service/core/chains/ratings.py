@@ -28,8 +28,12 @@ class LeadRating:
 
 
 def lead_rating(lead: Lead, index: int, ambient_c: float, cords: CordLibrary) -> LeadRating:
+    nec_cord = lead.conductor.size_system == "awg" and lead.conductor.material.name == "copper"
     if lead.marked_rating_a is not None:
         base, source = lead.marked_rating_a, "marked rating"
+    elif nec_cord and lead.conductor.size_label in cords.nec_two_conductor_a:
+        base = cords.nec_two_conductor_a[lead.conductor.size_label]
+        source = "NEC 2023 Table 400.5(A)(1), column B (two current-carrying conductors)"
     else:
         tabulated = cords.rating_for(lead.conductor.area_m2)
         if tabulated is None or lead.conductor.material.name != "copper":
@@ -42,7 +46,7 @@ def lead_rating(lead: Lead, index: int, ambient_c: float, cords: CordLibrary) ->
                 blames=(Blame(("leads", index, "marked_rating"), "needed: this size has no tabulated cord rating"),),
             )
         base, source = tabulated.single_phase_a, "BS 7671 Table 4F3A, single-phase"
-    ambient = cords.ambient_factor(ambient_c)
+    ambient = cords.nec_ambient_factor(ambient_c) if nec_cord else cords.ambient_factor(ambient_c)
     drum = cords.drum_factor(lead.reel.wound, lead.reel.layers) if lead.reel is not None else None
     if ambient is None:
         return LeadRating(base, source, None, drum, None, False)

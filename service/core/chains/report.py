@@ -9,6 +9,7 @@ from ..steps import Step  # noqa: F401  (re-exported: results carry their steps)
 from service.core.protection import DisconnectionTime, EarthFaultCheck, OperatingCurrent
 
 from .codes import ChainCheck, Verdict, verdict_of
+from .plug_fuses import PlugFuseFaultCredit, PlugFuseOverload
 from .ratings import LeadRating
 
 
@@ -43,6 +44,7 @@ class LeadReport(_Judged):
     overload_protected: bool | None  # In <= Iz and I2 <= 1.45 Iz (IEC 60364-4-43 433.1); None: not assessed
     problems: tuple[str, ...]
     checks: tuple[ChainCheck, ...] = ()
+    plug_fuse: PlugFuseOverload | None = None  # the lead's own BS 1362 plug fuse and how it meets the current
 
     @property
     def passes(self) -> bool:
@@ -97,6 +99,7 @@ class FaultReport(_Judged):
     problems: tuple[str, ...]
     line_neutral: LineNeutralFault | None = None  # None: no overcurrent device given
     checks: tuple[ChainCheck, ...] = ()
+    plug_fuse_credit: PlugFuseFaultCredit | None = None  # the far-end earth fault as the fastest plug fuse sees it
 
 
 @dataclass(frozen=True, slots=True)

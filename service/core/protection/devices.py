@@ -228,8 +228,10 @@ def guaranteed_clearing(device: Device, current_a: float, library: ProtectionLib
     (log-log between points), 0.1 s at or above Imax(0.1 s).  RCD: the shortest break time whose test current
     the fault current reaches (an RCD sees only a residual current: earth faults).
     """
-    lib = library or default_protection()
     current = require_positive(current_a, ("current",), "the fault current")
+    if _is_plug_fuse(device):
+        return _plug_fuse_clearing(device, current)
+    lib = library or default_protection()
     if isinstance(device, GGFuse):
         return _fuse_clearing(device, current, lib)
     times = (BREAKER_INSTANTANEOUS_TIME_S,) if isinstance(device, CircuitBreaker) else tuple(
@@ -285,6 +287,8 @@ def operating_current(device: Device, required_time_s: float, library: Protectio
     or the device is not one the tables describe.
     """
     require_positive(required_time_s, ("required_time",), "the required disconnection time")
+    if _is_plug_fuse(device):
+        return _plug_fuse_current(device, required_time_s)
     lib = library or default_protection()
     if isinstance(device, CircuitBreaker):
         return _breaker_current(device, required_time_s, lib)
@@ -294,6 +298,30 @@ def operating_current(device: Device, required_time_s: float, library: Protectio
         return _rcd_current(device, required_time_s, lib)
     raise fail("unknown-device", ("device",),
         f"Not a protective device this library knows: {type(device).__name__}.",
-        "Pass a CircuitBreaker, GGFuse or ResidualCurrentDevice.",
+        "Pass a CircuitBreaker, GGFuse, ResidualCurrentDevice or PlugFuse.",
         "unknown device kind")
 
+
+
+def _is_plug_fuse(device: object) -> bool:
+    from .plug_fuse import PlugFuse  # plug_fuse.py builds on this module: imported when first needed
+
+    return isinstance(device, PlugFuse)
+
+
+def _plug_fuse_current(device, required_time_s: float) -> OperatingCurrent:
+    from .plug_fuse import CONVENTIONAL_TABLE, ZONES_TABLE, band_basis, band_sources, plug_fuse_operating
+
+    ia, within, band = plug_fuse_operating(device, required_time_s)
+    return OperatingCurrent(ia, within, f"Ia = {ia:.4g} A for operation within {within:g} s ({band_basis(band)})",
+                            band_sources(band), CONVENTIONAL_TABLE if len(band.points) == 1 else ZONES_TABLE)
+
+
+def _plug_fuse_clearing(device, current_a: float) -> ClearingTime | None:
+    from .plug_fuse import band_basis, plug_fuse_clearing
+
+    found = plug_fuse_clearing(device, current_a)
+    if found is None:
+        return None
+    t, band = found
+    return ClearingTime(t, f"{current_a:.4g} A operates the {device.label} within {t:.3g} s ({band_basis(band)})")

@@ -26,7 +26,8 @@ from service.core.chains import ChainReport, analyse_chain
 INLINE_CHAIN_ITEMS = 150
 
 CHAIN_CAUTIONS = (
-    "Temporary supplies need RCD protection: plug the chain into a 30 mA RCD-protected socket or use a portable RCD.",
+    "Temporary supplies need RCD protection: plug the chain into a 30 mA RCD-protected socket or use a portable RCD "
+    "(a reduced-low-voltage 110 V centre-tapped site supply is the exception, BS 7671 411.8).",
     "Unwind cable reels fully before connecting heavy loads: a wound drum traps heat and can melt the cable.",
     "Withdraw damaged leads, plugs and reels from use; do not repair a lead with tape or join leads with connectors "
     "not made for it.",
@@ -53,8 +54,25 @@ def _lead(r) -> s.LeadOut:
             drum_note=None if rating.drum is None else rating.drum.reason,
             marked_wound_rating_used=rating.wound_rating_used, effective_a=rating.effective_a),
         loading_pct=r.loading_pct, overload_device=r.overload_device, overload_protected=r.overload_protected,
-        verdict=r.verdict, checks=_checks(r.checks), problems=list(r.problems),
+        verdict=r.verdict, checks=_checks(r.checks), problems=list(r.problems), plug_fuse=_plug_fuse(r.plug_fuse),
     )
+
+
+def _plug_fuse(p) -> s.PlugFuseOut | None:
+    if p is None:
+        return None
+    return s.PlugFuseOut(rated_current_a=p.rated_current_a, non_fusing_current_a=p.non_fusing_a,
+                         fusing_current_a=p.fusing_a, conventional_time_s=p.conventional_time_s, response=p.response,
+                         opens_within_s=p.opens_within_s, source=p.source)
+
+
+def _plug_fuse_earth_fault(c) -> s.PlugFuseEarthFaultOut | None:
+    if c is None:
+        return None
+    return s.PlugFuseEarthFaultOut(
+        device=c.device, earth_fault_current_a=c.fault_current_a, required_disconnection_time_s=c.required_time_s,
+        disconnecting_current_a=c.operating_current_a, max_earth_loop_ohm=c.max_zs_ohm,
+        clearing_time_s=c.clearing_time_s, disconnects=c.complies, basis=c.basis, source=c.source)
 
 
 def _appliance(a) -> s.ApplianceOut:
@@ -136,7 +154,9 @@ def result_of(report: ChainReport) -> s.LeadChainResult:
             prospective_short_circuit_a=fault.prospective_short_circuit_a, earth_loop_ohm=fault.earth_loop_ohm,
             conductor_temperature_degc=fault.conductor_temperature_c, earth_fault=_earth_fault(report),
             line_neutral=_line_neutral(fault.line_neutral), verdict=fault.verdict, checks=_checks(fault.checks),
-            problems=list(fault.problems)),
+            problems=list(fault.problems),
+            earth_fault_voltage_v=None if fault.disconnection is None else fault.disconnection.u0_v,
+            plug_fuse_earth_fault=_plug_fuse_earth_fault(fault.plug_fuse_credit)),
         length_limits=[s.LengthLimitOut(size_label=x.size_label, lead_indices=list(x.lead_indices),
                                         by_voltage_drop_m=x.by_voltage_drop_m,
                                         by_overcurrent_earth_fault_m=x.by_overcurrent_earth_fault_m,

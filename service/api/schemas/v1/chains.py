@@ -70,6 +70,12 @@ class SupplyIn(Strict):
     rcd: RcdIn | None = None
     electrode_resistance: quantity(ELECTRODE_RESISTANCE, "60 ohm") | None = None  # type: ignore[valid-type]
     ambient_temperature: quantity(TEMPERATURE, "25 degC", 30) = 30.0  # type: ignore[valid-type]
+    system: Annotated[Literal["standard", "rlv_single_phase_cte", "rlv_three_phase_star"], Meta(description=(
+        "The kind of supply. standard: U0 is nominal_voltage and IEC 60364-4-41 Table 41.1 sets the "
+        "disconnection time. rlv_single_phase_cte / rlv_three_phase_star: a reduced-low-voltage site supply "
+        "(110 V between lines, nominal_voltage at most 110 V) from a transformer with an earthed centre tap "
+        "(U0 = 55 V) or star point (U0 = 63.5 V); disconnection within 5 s and no 30 mA RCD required, by the "
+        "national rule BS 7671:2018 411.8."))] = "standard"
 
 
 class ReelIn(Strict):
@@ -87,7 +93,9 @@ class LeadIn(Strict, kw_only=True):
     conductor_class: ConductorClassField = 5
     marked_rating: quantity(CURRENT, "13 A") | None = None  # type: ignore[valid-type]
     reel: ReelIn | None = None
-    plug_fuse: quantity(CURRENT, "13 A") | None = None  # type: ignore[valid-type]
+    plug_fuse: Annotated[quantity(CURRENT, "13 A") | None, Meta(description=(  # type: ignore[valid-type]
+        "Rating of the BS 1362 cartridge fuse in this lead's plug: 1, 2, 3, 5, 7, 10 or 13 A (13 A is the "
+        "standard's maximum); other values are refused."))] = None
 
 
 class HeatingTaskIn(Strict):
@@ -169,6 +177,21 @@ class LeadRatingOut(Out):
     effective_a: float | None
 
 
+class PlugFuseOut(Out):
+    """How the lead's BS 1362 plug fuse meets the current it carries."""
+
+    rated_current_a: float
+    non_fusing_current_a: float
+    fusing_current_a: float
+    conventional_time_s: float
+    response: Annotated[Literal["carries", "holds", "may_open", "opens"], Meta(description=(
+        "carries: within its rating; holds: above its rating but not above the non-fusing current, so it does "
+        "not open within the conventional time; may_open: between the non-fusing and fusing currents; opens: "
+        "at or above the fusing current, within opens_within_s at most."))]
+    opens_within_s: float | None
+    source: str
+
+
 class LeadOut(Out):
     index: int
     name: str
@@ -188,6 +211,7 @@ class LeadOut(Out):
     verdict: Verdict
     checks: list[ChainCheckOut]
     problems: list[str]
+    plug_fuse: PlugFuseOut | None = None
 
 
 class HeatingOut(Out):
@@ -238,6 +262,21 @@ class EarthFaultOut(Out):
     route: str | None
 
 
+class PlugFuseEarthFaultOut(Out):
+    """The far-end earth fault as the fastest plug fuse in its path clears it (assessed when the origin device
+    alone does not show disconnection in time)."""
+
+    device: str
+    earth_fault_current_a: float
+    required_disconnection_time_s: float
+    disconnecting_current_a: float | None
+    max_earth_loop_ohm: float | None
+    clearing_time_s: float | None
+    disconnects: bool
+    basis: str
+    source: str
+
+
 class FaultOut(Out):
     line_neutral_loop_ohm: float
     prospective_short_circuit_a: float
@@ -248,6 +287,8 @@ class FaultOut(Out):
     verdict: Verdict
     checks: list[ChainCheckOut]
     problems: list[str]
+    earth_fault_voltage_v: float | None = None
+    plug_fuse_earth_fault: PlugFuseEarthFaultOut | None = None
 
 
 class LengthLimitOut(Out):
