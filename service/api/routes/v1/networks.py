@@ -407,7 +407,16 @@ _DESCRIPTION = (
     "(Kirchhoff's current law and power balance), optional Thevenin equivalents, and `notes`. A network with no "
     "solution gets 422 naming the elements and nodes at fault: floating parts, loops of ideal voltage sources, "
     "current sources cutting a part off, loads asking more power than the network can transfer. The body limit of "
-    "this route, and the most nodes and elements per network, are settings (AMPLINE_MAX_NETWORK_*)."
+    "this route, and the most nodes and elements per network, are settings (AMPLINE_MAX_NETWORK_*). An exact L-C "
+    "resonance is a 422 `resonant-network` naming the elements that cancel; accuracy limits are stated in "
+    "`warnings`.\n\n"
+    "Sign convention, one for every element: V = v(a) - v(b) across it and I from a to b through it (a voltage "
+    "source's a is its positive terminal, also accepted as pos); p_w and q_var are the power the element absorbs "
+    "(passive sign convention), so a source that delivers shows p_w < 0 and supplied_w = -p_w. A three-phase "
+    "supply's phase currents are given out of its line terminals, the direction of supply, with p_w and q_var "
+    "absorbed like every element's. Every phasor comes as magnitude and angle (degrees) and as real and imaginary "
+    "parts; at DC the real part is the signed value. Thevenin equivalents keep the loads connected; beside each, "
+    "the source-side loop impedance disconnects every load element."
 )
 
 
