@@ -11,7 +11,7 @@ any node to the reference.  It solves the equations solve() writes for that netw
 
 Each pass solves the ladder exactly for its linear part (constant-impedance loads as admittances) with the
 constant-current and constant-power loads drawn as fixed currents at the previous pass's voltages: a backward
-pass folds the far end into an admittance A_k and a current draw D_k seen at each node,
+pass folds the far end into an admittance A_k and a current draw D_k seen at each node (A_k once per solve),
 
     A_k = y_k + A_{k+1} / (1 + Z_{k+1} A_{k+1}),   D_k = d_k + D_{k+1} / (1 + Z_{k+1} A_{k+1}),
 
@@ -20,12 +20,14 @@ J_k = (A_k V_{k-1} + D_k) / (1 + Z_k A_k) and V_k = V_{k-1} - Z_k J_k.  A ladder
 is therefore solved in one pass.  Ohm's law holds exactly in every section after a pass; the only KCL mismatch
 left at a node is the change of its nonlinear load currents between the voltages they were drawn at and the
 new ones, and the sweep stops when the largest is below max(tolerance_a, relative_tolerance x the largest
-current), the general solver's test (SolveOptions), with a margin (SWEEP_MARGIN).  It starts, like the solver's Newton iteration, from the
-linear solution with every load at the impedance it has at rated voltage (the upper, stable branch).
+current), the general solver's test (SolveOptions), with a margin (SWEEP_MARGIN).  It starts, like the
+solver's Newton iteration, from the linear solution with every load at the impedance it has at rated voltage
+(the upper, stable branch).
 
 The sweep is a fixed-point iteration, contracting by about the fraction of the voltage the nonlinear loads
 drop; near the transfer limit it slows and past it there is no solution.  :meth:`Ladder.solve` returns None
-when it has not converged in MAX_PASSES, when any value is not finite, or when a nonlinear load ends below its
+when it has not converged in MAX_PASSES or has stopped contracting (no new lowest mismatch in STALL_PASSES),
+when any value is not finite, or when a nonlinear load ends below its
 guard voltage: the caller then solves the same network with solve(), which gives its own answer or its own
 error (VoltageCollapseError with the per-load data, LoadUndervoltageError, ConvergenceError), so callers see
 no difference.  Cross-checked against solve() in tests/unit/test_chain_sweep.py.
@@ -47,6 +49,7 @@ MAX_PASSES = 200
 # Newton's quadratic convergence leaves the general solver far inside its own test; the margin keeps the two
 # in agreement to 1e-9 of each current, small ones included, for two or three more passes.
 SWEEP_MARGIN = 1e-3
+STALL_PASSES = 5
 ROUNDING_FLOOR = 16 * 2.220446049250313e-16
 _EXPONENT = {"constant_impedance": 2, "constant_current": 1, "constant_power": 0}
 
@@ -82,7 +85,6 @@ class Ladder:
     load_rated_y: tuple[complex, ...]  # the admittance at rated voltage, conj(S0) / V0^2
     valid: bool  # False: a value solve() would refuse; the caller lets solve() say so
     nonlinear: tuple[int, ...]  # the loads that are not constant impedance
-    nonlinear_nodes: tuple[int, ...]  # their nodes, each once
 
     def solve(self, sections: Sequence[complex], options: SolveOptions | None = None,
               start: Sequence[complex] | None = None) -> LadderFlow | None:
@@ -96,79 +98,98 @@ class Ladder:
             return None
         n = self.nodes
         nonlinear = self.nonlinear
+        laws = [(self.load_node[j], self.load_c[j], self.load_vg[j], self.load_k[j] == 1) for j in nonlinear]
         y = list(self.linear_y)
         if start is None:  # the linear solution with every load at its rated-voltage impedance
             y0 = list(y)
             for j in nonlinear:
                 y0[self.load_node[j]] += self.load_rated_y[j]
-            v, _, _, _ = self._pass(sections, y0, [0j] * n)
+            v, _, _, _ = self._pass(sections, self._fold(sections, y0), [0j] * n)
         else:
             v = list(start)
-        draws = self._nonlinear_draws(v)
-        floor = options.tolerance_a
-        rel = options.relative_tolerance
-        nodes_nl = self.nonlinear_nodes
-        mismatch = 0.0
+        draws = _draws(laws, v)
+        folded = self._fold(sections, y)
+        limit_abs = SWEEP_MARGIN * options.tolerance_a
+        limit_rel = max(SWEEP_MARGIN * options.relative_tolerance, ROUNDING_FLOOR)
+        mismatch, lowest, lowest_at = 0.0, math.inf, 0
         for passes in range(1, MAX_PASSES + 1):
             d = [0j] * n
-            for j, i in zip(nonlinear, draws):
-                d[self.load_node[j]] += i
-            v, j_sec, i_src, largest = self._pass(sections, y, d)
-            new_draws = self._nonlinear_draws(v)
-            change = dict.fromkeys(nodes_nl, 0j)
-            for j, new, old in zip(nonlinear, new_draws, draws):
-                change[self.load_node[j]] += new - old
-                largest = max(largest, abs(new))
-            mismatch = max((abs(c) for c in change.values()), default=0.0)
+            for (node, _, _, _), i in zip(laws, draws):
+                d[node] += i
+            v, j_sec, i_src, largest = self._pass(sections, folded, d)
+            new_draws = _draws(laws, v)
+            change = [0j] * n  # per node: its nonlinear loads' current now, less the one the pass drew
+            for (node, _, _, _), new, old in zip(laws, new_draws, draws):
+                change[node] += new - old
+            mismatch = max(map(abs, change))
+            largest = max(largest, max(map(abs, new_draws), default=0.0))
             if not (math.isfinite(mismatch) and math.isfinite(largest)):
                 return None
             draws = new_draws
-            if mismatch <= max(SWEEP_MARGIN * max(floor, rel * largest), ROUNDING_FLOOR * largest):
+            if mismatch <= max(limit_abs, limit_rel * largest):
                 break
+            if mismatch < lowest:
+                lowest, lowest_at = mismatch, passes
+            elif passes - lowest_at >= STALL_PASSES:
+                return None  # not contracting: no operating point near, or one the sweep cannot reach
         else:
             return None
-        if any(abs(v[self.load_node[j]]) < self.load_vg[j] for j in nonlinear):
+        if any(abs(v[node]) < vg for node, _, vg, _ in laws):
             return None  # the general solver decides: an error (the default) or a guarded solution
         drawn = dict(zip(nonlinear, draws))
         currents = tuple(drawn[j] if k != 2 else self.load_c[j] * v[self.load_node[j]]
                          for j, k in enumerate(self.load_k))
         return LadderFlow(tuple(v), tuple(j_sec), i_src, currents, passes, mismatch)
 
-    def _nonlinear_draws(self, v: list[complex]) -> list[complex]:
-        """Each nonlinear load's current at its node's voltage, the guard applied (loads.load_currents)."""
-        draws = []
-        for j in self.nonlinear:
-            vj = v[self.load_node[j]]
-            r = max(abs(vj), self.load_vg[j])
-            draws.append(self.load_c[j] * vj / (r if self.load_k[j] == 1 else r * r))
-        return draws
+    def _fold(self, sections, y: list[complex]) -> tuple[list[complex], list[complex], complex]:
+        """The far end folded into each node for admittances y: A_k, 1 / (1 + Z_k A_k), 1 / (1 + Zs A_0).
 
-    def _pass(self, sections, y: list[complex], d: list[complex]):
-        """One exact solve of the ladder with admittances y and current draws d at the nodes.
+        They depend on the sections and the linear loads only, so one fold serves every pass of a solve.
+        """
+        n = self.nodes
+        a, inv = list(y), [0j] * n
+        for k in range(n - 1, 0, -1):  # fold node k into node k-1 through section k
+            inv[k] = 1.0 / (1.0 + sections[k - 1] * a[k])
+            a[k - 1] += a[k] * inv[k]
+        return a, inv, 1.0 / (1.0 + self.source_impedance_ohm * a[0])
+
+    def _pass(self, sections, folded, d: list[complex]):
+        """One exact solve of the ladder (folded by _fold) with current draws d at the nodes.
 
         Returns the node voltages, the section currents, the source current and the largest of those currents.
         """
+        a, inv, inv_source = folded
         n = self.nodes
-        a, dd = list(y), list(d)
-        for k in range(n - 1, 0, -1):  # fold node k into node k-1 through section k
-            z = sections[k - 1]
-            den = 1.0 + z * a[k]
-            a[k - 1] += a[k] / den
-            dd[k - 1] += dd[k] / den
-        zs = self.source_impedance_ohm
-        v0 = (self.emf_v - zs * dd[0]) / (1.0 + zs * a[0])
+        dd = list(d)
+        for k in range(n - 1, 0, -1):
+            dd[k - 1] += dd[k] * inv[k]
+        v0 = (self.emf_v - self.source_impedance_ohm * dd[0]) * inv_source
         i_src = a[0] * v0 + dd[0]
         v, j_sec, largest = [v0], [], abs(i_src)
         for k in range(1, n):
-            z = sections[k - 1]
-            j = (a[k] * v[-1] + dd[k]) / (1.0 + z * a[k])
+            j = (a[k] * v[-1] + dd[k]) * inv[k]
             j_sec.append(j)
-            v.append(v[-1] - z * j)
+            v.append(v[-1] - sections[k - 1] * j)
             largest = max(largest, abs(j))
         return v, j_sec, i_src, largest
 
 
 _DEFAULT_OPTIONS = SolveOptions()
+
+
+def _draws(laws, v: list[complex]) -> list[complex]:
+    """Each nonlinear load's current at its node's voltage, the guard applied (loads.load_currents).
+
+    ``laws``: (node, c, guard voltage, constant current?) per load; i = c v / |v| or c v / |v|^2.
+    """
+    out = []
+    for node, c, vg, constant_current in laws:
+        vj = v[node]
+        r = abs(vj)
+        if r < vg:
+            r = vg
+        out.append(c * vj / r if constant_current else c * vj / (r * r))
+    return out
 
 
 def _finite(*values: float) -> bool:
@@ -217,4 +238,4 @@ def ladder(emf_v: float, source_resistance_ohm: float, source_reactance_ohm: flo
     zs = complex(source_resistance_ohm, 0.0 if dc else source_reactance_ohm)
     nonlinear = tuple(j for j, k in enumerate(ks) if k != 2)
     return Ladder(complex(emf_v, 0.0), zs, nodes, dc, tuple(linear_y), tuple(node_of), tuple(cs), tuple(ks),
-                  tuple(vgs), tuple(rated), valid, nonlinear, tuple(dict.fromkeys(node_of[j] for j in nonlinear)))
+                  tuple(vgs), tuple(rated), valid, nonlinear)
