@@ -207,8 +207,11 @@ def test_collapse_is_left_to_the_general_solver_and_its_error():
         solve(*chain_network(chain, (70.0,)))
     with pytest.raises(CalcError) as caught:
         analyse_chain(chain)
+    with mock.patch.object(Ladder, "solve", lambda self, *args, **kwargs: None), pytest.raises(CalcError) as before:
+        analyse_chain(chain)  # every solve by the general solver, as before the sweep
     assert caught.value.code == "voltage_collapse"
     assert "at most" in caught.value.detail  # the per-load limit from the general solver's error data
+    assert (caught.value.detail, caught.value.blames) == (before.value.detail, before.value.blames)
 
 
 def test_constant_impedance_ladder_is_solved_in_one_pass():

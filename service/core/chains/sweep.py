@@ -5,7 +5,8 @@ line-neutral impedance, lead k a go-and-return section of 2 x length x R/m at it
 L{k+1}), each appliance a Load on its outlet.  The two fault loops carry no current, so each is a plain series
 sum: Z(socket) + the line and the return conductor of every lead at the fault temperature, seen with the EMF
 as its open-circuit voltage.  :class:`ChainFlow` answers element(), voltage() and thevenin as the
-Solution of solve(chain_network(...)) does for the chain's elements and nodes, so the analysis reads either.
+Solution of solve(chain_network(...)) does for the load flow's elements ("supply", "lead{k}", "appliance{j}")
+and nodes ("L{k}"), and for the fault loops through thevenin only, so the analysis reads either.
 When the sweep gives no answer (module radial), :func:`solve_by_sweep` returns None and the caller solves the
 network with solve().
 """
