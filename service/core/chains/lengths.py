@@ -38,9 +38,8 @@ class _DropProbe:
     """
 
     def __init__(self, chain: Chain, lead: Lead) -> None:
-        self._single = replace(chain, leads=(replace(lead, length_m=max(lead.length_m, 1.0), reel=None),),
-                               appliances=tuple(replace(a, outlet=0) for a in chain.appliances))
-        self._ladder = chain_ladder(self._single)
+        self._chain = chain
+        self._ladder = chain_ladder(chain, all_on_first_outlet=True)
         self._lead = lead
         self._per_m = lead.conductor.resistance_per_m_at(FAULT_TEMPERATURE_C)
         self._prepared = None
@@ -49,7 +48,10 @@ class _DropProbe:
 
     def _general(self, length_m: float) -> tuple[float, float]:
         if self._prepared is None:
-            network, options = chain_network(self._single, (FAULT_TEMPERATURE_C,), with_fault_loops=False)
+            chain, lead = self._chain, self._lead
+            single = replace(chain, leads=(replace(lead, length_m=max(lead.length_m, 1.0), reel=None),),
+                             appliances=tuple(replace(a, outlet=0) for a in chain.appliances))
+            network, options = chain_network(single, (FAULT_TEMPERATURE_C,), with_fault_loops=False)
             self._run = next(e for e in network.elements if e.id == lead_id(0))
             self._prepared = prepare(network, options)
         solution = self._prepared.replace(replace(self._run, length_m=length_m)).solve()
