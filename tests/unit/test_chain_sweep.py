@@ -23,6 +23,7 @@ from service.core.conductors import SizeSpec, default_library
 from service.core.errors import CalcError
 from service.core.network import (
     ConvergenceError,
+    InvalidValueError,
     Load,
     LoadUndervoltageError,
     Network,
@@ -253,3 +254,16 @@ def test_a_load_left_below_its_guard_voltage_is_the_general_solvers_to_report(re
     else:
         assert flow.node_voltage_v[1].real == pytest.approx(230.0 - 10.0 * resistance_ohm, rel=1e-12)
         assert solve(network).voltage("1").voltage.magnitude == pytest.approx(flow.node_voltage_v[1].real, rel=1e-12)
+
+
+def test_values_the_general_solver_refuses_are_left_to_it():
+    # A capacitive internal reactance has no DC meaning (a series capacitor blocks direct current), and
+    # solve() refuses it (InvalidValueError); the sweep must not answer such a chain either.
+    supply = Supply(230.0, 0.0, SourceImpedance(0.4), SourceImpedance(0.7, -0.05), "TN-S", "B", 16.0, None)
+    chain = Chain(supply, (Lead("lead", 10.0, cord(1.5)),), (Appliance("lamp", 0, 60.0, 230.0),))
+    per_m = (cord(1.5).resistance_per_m_at(70.0),)
+    with pytest.raises(InvalidValueError):
+        solve(*chain_network(chain, (70.0,)))
+    assert solve_by_sweep(chain, chain_ladder(chain), per_m, per_m) is None
+    with pytest.raises(CalcError):
+        analyse_chain(chain)

@@ -34,7 +34,7 @@ from service.core.cords import CORD_MAX_CONDUCTOR_C
 from service.core.network import CableRun, Load, Network, Solution, SolveOptions, VoltageSource, solve
 
 from .model import Chain, Lead
-from .names import appliance_id, lead_id, outlet_node  # noqa: F401 (the analysis imports them from here)
+from .names import appliance_id, lead_id, outlet_node
 from .sweep import ChainFlow, chain_ladder, solve_by_sweep
 
 TEMPERATURE_TOLERANCE_C = 0.5

@@ -18,7 +18,8 @@ from dataclasses import dataclass
 
 from service.core.network import Load, SolveOptions
 from service.core.network.radial import Ladder, LadderFlow, ladder
-from service.core.network.results import ElementResult, NodeVoltage, Phasor, TheveninEquivalent, _pf
+from service.core.network.results import ElementResult, NodeVoltage, Phasor, TheveninEquivalent
+from service.core.network.results import _pf  # the general solver's power-factor rule, for the same records
 
 from .model import Chain, Lead
 from .names import appliance_id, lead_id, outlet_node
@@ -56,6 +57,16 @@ def _loop(chain: Chain, resistance_ohm: float, reactance_ohm: float, per_m: tupl
     for lead, r in zip(chain.leads, per_m):
         z += lead.length_m * r + lead.length_m * r  # line out, return conductor back (two one-way runs)
     return z
+
+
+def _loops_valid(chain: Chain, per_m_at_fault: tuple[float, ...]) -> bool:
+    """The fault loops hold values solve() accepts (R >= 0, finite; at DC no capacitive reactance)."""
+    dc = not chain.supply.frequency_hz
+    for z in (chain.supply.line_neutral, chain.supply.line_earth):
+        if z is not None and not (math.isfinite(z.resistance_ohm) and z.resistance_ohm >= 0
+                                  and math.isfinite(z.reactance_ohm) and not (dc and z.reactance_ohm < 0)):
+            return False
+    return all(math.isfinite(r) and r >= 0 for r in per_m_at_fault)
 
 
 def fault_loops(chain: Chain, per_m_at_fault: tuple[float, ...]) -> tuple[TheveninEquivalent, ...]:
@@ -166,7 +177,7 @@ def solve_by_sweep(chain: Chain, compiled: Ladder, per_m: tuple[float, ...], per
                    options: SolveOptions | None = None, start=None) -> ChainFlow | None:
     """The chain's load flow with leads at these per-metre resistances, and its fault loops; None: use solve()."""
     sections = tuple(lead_section_ohm(lead, r) for lead, r in zip(chain.leads, per_m))
-    if None in sections:
+    if None in sections or not _loops_valid(chain, per_m_at_fault):
         return None
     flow = compiled.solve(sections, options, start)
     if flow is None:
