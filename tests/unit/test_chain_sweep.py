@@ -256,10 +256,12 @@ def test_a_load_left_below_its_guard_voltage_is_the_general_solvers_to_report(re
         assert solve(network).voltage("1").voltage.magnitude == pytest.approx(flow.node_voltage_v[1].real, rel=1e-12)
 
 
-def test_values_the_general_solver_refuses_are_left_to_it():
-    # A capacitive internal reactance has no DC meaning (a series capacitor blocks direct current), and
-    # solve() refuses it (InvalidValueError); the sweep must not answer such a chain either.
-    supply = Supply(230.0, 0.0, SourceImpedance(0.4), SourceImpedance(0.7, -0.05), "TN-S", "B", 16.0, None)
+@pytest.mark.parametrize("frequency_hz, earth_loop", [(0.0, SourceImpedance(0.7, -0.05)),
+                                                     (-50.0, SourceImpedance(0.7, 0.05))])
+def test_values_the_general_solver_refuses_are_left_to_it(frequency_hz, earth_loop):
+    # A capacitive internal reactance has no DC meaning (a series capacitor blocks direct current), and a
+    # negative frequency none at all: solve() refuses both (InvalidValueError); the sweep must not answer.
+    supply = Supply(230.0, frequency_hz, SourceImpedance(0.4), earth_loop, "TN-S", "B", 16.0, None)
     chain = Chain(supply, (Lead("lead", 10.0, cord(1.5)),), (Appliance("lamp", 0, 60.0, 230.0),))
     per_m = (cord(1.5).resistance_per_m_at(70.0),)
     with pytest.raises(InvalidValueError):

@@ -209,6 +209,8 @@ def ladder(emf_v: float, source_resistance_ohm: float, source_reactance_ohm: flo
     dc = not frequency_hz
     guard = float(options.load_guard_voltage_pu)
     valid = _finite(emf_v, source_resistance_ohm, source_reactance_ohm) and source_resistance_ohm >= 0
+    if frequency_hz is not None and not (_finite(frequency_hz) and frequency_hz >= 0):
+        valid = False  # solve() refuses it (expand._check_frequency)
     if dc:
         valid = valid and source_reactance_ohm >= 0  # solve() refuses a capacitive internal reactance at DC
     nodes = sections + 1
