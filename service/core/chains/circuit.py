@@ -18,6 +18,12 @@ Appendix 4, section 6.1, from memory):
 with I_rating the lead's effective rating (ambient and reel derating applied).
 It is iterated with the load flow until no lead's estimate moves by more than
 TEMPERATURE_TOLERANCE_C.
+
+solve_chain() solves this network by the radial sweep (sweep.py, network/radial.py): the same equations,
+O(n) a pass, without assembling a matrix; the sweep is cross-checked against solve() on random chains in
+tests/unit/test_chain_sweep.py.  A round the sweep cannot answer (no convergence, a load left below its guard
+voltage, an input solve() would refuse) is solved by solve() on chain_network(), which then gives the answer
+or the error.
 """
 
 from __future__ import annotations
@@ -28,23 +34,12 @@ from service.core.cords import CORD_MAX_CONDUCTOR_C
 from service.core.network import CableRun, Load, Network, Solution, SolveOptions, VoltageSource, solve
 
 from .model import Chain, Lead
+from .names import appliance_id, lead_id, outlet_node
+from .sweep import ChainFlow, chain_ladder, solve_by_sweep
 
 TEMPERATURE_TOLERANCE_C = 0.5
 MAX_TEMPERATURE_ROUNDS = 12
 FAULT_TEMPERATURE_C = CORD_MAX_CONDUCTOR_C  # conservative: highest loop impedance in service
-
-
-def outlet_node(k: int) -> str:
-    """Node of lead k's outlet (k = -1 is the origin socket)."""
-    return f"L{k + 1}"
-
-
-def lead_id(k: int) -> str:
-    return f"lead{k}"
-
-
-def appliance_id(j: int) -> str:
-    return f"appliance{j}"
 
 
 def _lead_runs(prefix_line: str, prefix_return: str, leads: tuple[Lead, ...], return_start: str) -> list:
@@ -101,25 +96,42 @@ def conductor_temperature(ambient_c: float, current_a: float, rating_a: float | 
 
 @dataclass(frozen=True, slots=True)
 class ChainSolution:
-    solution: Solution
+    solution: Solution | ChainFlow  # the sweep's, or the general solver's where the sweep gave no answer
     temperatures_c: tuple[float, ...]
     rounds: int
     temperatures_settled: bool
+
+
+def _solve_round(chain: Chain, compiled, temperatures: tuple[float, ...], at_fault: tuple[float, ...], start):
+    per_m = tuple(lead.conductor.resistance_per_m_at(t) for lead, t in zip(chain.leads, temperatures))
+    swept = solve_by_sweep(chain, compiled, per_m, at_fault, start=start)
+    if swept is not None:
+        return swept
+    network, options = chain_network(chain, temperatures)
+    return solve(network, options)
 
 
 def solve_chain(chain: Chain, ratings_a: tuple[float | None, ...]) -> ChainSolution:
     """Load flow with conductor temperatures iterated to agree with the lead currents.
 
     Starts from every lead at the cord's maximum temperature (the conservative
-    end), so a chain that stops early is still judged on the high side.
+    end), so a chain that stops early is still judged on the high side.  Each
+    round's sweep starts from the previous round's voltages.
     """
     ambient = chain.supply.ambient_c
     temperatures = tuple(max(ambient, CORD_MAX_CONDUCTOR_C) for _ in chain.leads)
+    compiled = chain_ladder(chain)
+    at_fault = tuple(lead.conductor.resistance_per_m_at(FAULT_TEMPERATURE_C) for lead in chain.leads)
+    start = None
     for rounds in range(1, MAX_TEMPERATURE_ROUNDS + 1):
         used = temperatures
-        network, options = chain_network(chain, used)
-        solution = solve(network, options)
-        currents = [solution.element(lead_id(k)).current.magnitude for k in range(len(chain.leads))]
+        solution = _solve_round(chain, compiled, used, at_fault, start)
+        if isinstance(solution, ChainFlow):
+            start = solution.flow.node_voltage_v
+            currents = [abs(i) for i in solution.flow.section_current_a]
+        else:
+            start = None
+            currents = [solution.element(lead_id(k)).current.magnitude for k in range(len(chain.leads))]
         updated = tuple(conductor_temperature(ambient, i, r) for i, r in zip(currents, ratings_a))
         moved = max(abs(a - b) for a, b in zip(updated, used))
         if moved <= TEMPERATURE_TOLERANCE_C:

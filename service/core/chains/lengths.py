@@ -3,11 +3,11 @@
 For every conductor type in the chain: one lead of that type plugged into the
 origin socket with every appliance at its outlet, conductors at the cord's
 maximum operating temperature (conservative).  The drop limit is found by a
-bracketing search on the solved network (the drop grows with length); the
-disconnection limits follow from the loop being linear in length,
-|Z_source + 2 r L| <= Z,max, for each protection route on its own: the
-overcurrent device for earth faults and for line-neutral faults, the RCD for
-earth faults only.
+bracketing search on the solved one-lead ladder (the drop grows with length;
+each probe one radial sweep, see _DropProbe); the disconnection limits follow
+from the loop being linear in length, |Z_source + 2 r L| <= Z,max, for each
+protection route on its own: the overcurrent device for earth faults and for
+line-neutral faults, the RCD for earth faults only.
 """
 
 from __future__ import annotations
@@ -17,10 +17,12 @@ from dataclasses import replace
 
 from service.core.network import NetworkError
 
+from service.core.network import prepare
+
 from .circuit import FAULT_TEMPERATURE_C, chain_network, lead_id
 from .model import Chain, Lead
 from .report import FaultReport, LengthLimit
-from service.core.network import prepare
+from .sweep import chain_ladder, lead_section_ohm
 
 MAX_SEARCH_LENGTH_M = 10_000.0
 LENGTH_TOLERANCE_M = 0.05
@@ -30,26 +32,41 @@ MAX_SEARCH_SOLVES = 40
 class _DropProbe:
     """Chain drop with one lead of a given length feeding every appliance; inf when it cannot be supplied.
 
-    The one-lead network is prepared once (validation and topology) and only
-    the lead's length changes from probe to probe (PreparedNetwork.replace),
-    so each probe of the search costs one solve.
+    Each probe is one radial sweep of the one-lead ladder (sweep.py).  A length the sweep gives no answer for
+    is solved by the general solver on the one-lead network, prepared once on first need (validation and
+    topology), with only the lead's length changed from probe to probe (PreparedNetwork.replace); its error
+    means the appliances cannot be supplied at that length.
     """
 
     def __init__(self, chain: Chain, lead: Lead) -> None:
-        single = replace(chain, leads=(replace(lead, length_m=max(lead.length_m, 1.0), reel=None),),
-                         appliances=tuple(replace(a, outlet=0) for a in chain.appliances))
-        network, options = chain_network(single, (FAULT_TEMPERATURE_C,), with_fault_loops=False)
-        self._run = next(e for e in network.elements if e.id == lead_id(0))
-        self._prepared = prepare(network, options)
+        self._chain = chain
+        self._ladder = chain_ladder(chain, all_on_first_outlet=True)
+        self._lead = lead
+        self._per_m = lead.conductor.resistance_per_m_at(FAULT_TEMPERATURE_C)
+        self._prepared = None
+        self._run = None
         self._nominal_v = chain.supply.nominal_voltage_v
 
+    def _general(self, length_m: float) -> tuple[float, float]:
+        if self._prepared is None:
+            chain, lead = self._chain, self._lead
+            single = replace(chain, leads=(replace(lead, length_m=max(lead.length_m, 1.0), reel=None),),
+                             appliances=tuple(replace(a, outlet=0) for a in chain.appliances))
+            network, options = chain_network(single, (FAULT_TEMPERATURE_C,), with_fault_loops=False)
+            self._run = next(e for e in network.elements if e.id == lead_id(0))
+            self._prepared = prepare(network, options)
+        solution = self._prepared.replace(replace(self._run, length_m=length_m)).solve()
+        return solution.voltage("L0").voltage.magnitude, solution.voltage("L1").voltage.magnitude
+
     def __call__(self, length_m: float) -> float:
+        section = lead_section_ohm(self._lead, self._per_m, length_m)
+        flow = None if section is None else self._ladder.solve((section,))
         try:
-            solution = self._prepared.replace(replace(self._run, length_m=length_m)).solve()
+            socket, far = (abs(flow.node_voltage_v[0]), abs(flow.node_voltage_v[1])) if flow is not None \
+                else self._general(length_m)
         except NetworkError:
             return math.inf
-        socket = solution.voltage("L0").voltage.magnitude
-        lowest = min(solution.voltage("L1").voltage.magnitude, socket)
+        lowest = min(far, socket)
         return 100.0 * (socket - lowest) / self._nominal_v
 
 
