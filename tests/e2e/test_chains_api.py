@@ -188,3 +188,14 @@ def test_verdict_fields_checks_codes_and_the_upstream_drop(client):
     assert body["totals"]["upstream_drop_pct"] == 2.5
     assert budget["value"] == pytest.approx(2.5 + body["totals"]["total_drop_pct"])
     assert body["length_limits"][0]["governed_by"] == "voltage_drop" and body["length_limits"][0]["missing_inputs"]
+
+
+def test_an_appliance_rated_at_a_subnormal_voltage_is_a_422_not_a_500(client):
+    # Found by schemathesis: 5e-324 V squared is 0 in floating point, so the appliance has no admittance; the
+    # answer must be a problem document, never a server error (common practice: bad input is a 4xx).
+    body = {"supply": {"loop_impedance": {"resistance": "0.42 ohm"}, "device": {"type": "B", "rated_current": "16 A"}},
+            "leads": [{"name": "hall reel", "length": "25 m", "size": "1.5 mm^2", "plug_fuse": "13 A"}],
+            "appliances": [{"name": "urn", "rated_power": 1500, "rated_voltage": 5e-324}]}
+    response = client.post(URL, json=body)
+    assert response.status_code == 422, response.text
+    assert response.headers["content-type"].startswith("application/problem+json")

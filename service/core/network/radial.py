@@ -228,16 +228,23 @@ def ladder(emf_v: float, source_resistance_ohm: float, source_reactance_ohm: flo
         else:
             q = p * math.tan(math.acos(pf))
             s0 = complex(p, -q if load.leading else q)
-        y_rated = s0.conjugate() / (v0 * v0)
+        try:  # an extreme rating (5e-324 V squared is 0) has no admittance in floats: the general solver decides
+            y_rated = s0.conjugate() / (v0 * v0)
+            c = y_rated if k == 2 else s0.conjugate() / v0**k
+        except (ZeroDivisionError, OverflowError):
+            y_rated = c = 0j
+            valid = False
+        if not (_finite(y_rated.real, y_rated.imag, c.real, c.imag)):
+            y_rated = c = 0j
+            valid = False
         node_of.append(node)
         ks.append(k)
         rated.append(y_rated)
+        cs.append(c)
         if k == 2:
-            cs.append(y_rated)
             vgs.append(0.0)
             linear_y[node] += y_rated
         else:
-            cs.append(s0.conjugate() / v0**k)
             vgs.append(guard * v0)
     zs = complex(source_resistance_ohm, 0.0 if dc else source_reactance_ohm)
     nonlinear = tuple(j for j, k in enumerate(ks) if k != 2)

@@ -218,7 +218,7 @@ def _run(prep: PreparedNetwork, system, started: float) -> Solution:
         try:
             factor = system.factor(system.matrix)
         except SingularNetworkError as exc:
-            raise _explained_singularity(prims, system, ids, positions, table, str(exc)) from None
+            raise _explained_singularity(prims, system, ids, positions, table, exc.detail) from None
         x = factor.solve(rhs)
         nl_current = np.zeros(0, dtype=prims.dtype)
         solves, converged, mismatch = 1, True, None
@@ -389,9 +389,9 @@ def _explained_singularity(prims: Primitives, system, ids, positions, table, rea
     involved, nodes = dependent_elements(prims, np.where(np.isfinite(z), z, 0.0), ids)
     if _may_cancel(prims):
         return _resonance(prims, z, ids, positions, table, math.inf)
-    shown = ", ".join(repr(i) for i in involved[:10]) or "(not identified)"
+    shown = ", ".join(repr(i) for i in involved[:10])
     return SingularNetworkError(
-        f"the network equations are singular ({reason}); the dependent set: {shown}",
+        reason + (f"; the dependent set: {shown}" if shown else ""),
         how_to_fix="look for parts whose voltage or current is not determined, e.g. an inductor and capacitor "
         "exactly in resonance, or ideal elements in conflict",
         element_ids=involved, node_names=[table.name(k) for k in nodes[:10]], element_positions=positions,
