@@ -9,9 +9,12 @@ runs the ASGI lifespan so start-up table validation fails fast.
 
 from __future__ import annotations
 
+import functools
+
 import uvicorn
 
 from service.api.observability import server_log_config
+from service.api.server_protocol import HardenedH11Protocol
 from service.api.settings import Settings
 
 
@@ -30,8 +33,10 @@ def main() -> None:
         server_header=False,  # no version banner
         # h11, not httptools: httptools buffers a request's header block without limit (measured: four
         # connections sending 50 MB header lines added 190 MB to the process); h11 refuses past this size.
-        http="h11",
+        # Our subclass adds a header-read timeout and refuses Content-Length with Transfer-Encoding.
+        http=functools.partial(HardenedH11Protocol, header_timeout_s=settings.header_timeout_s),  # type: ignore[arg-type]
         h11_max_incomplete_event_size=settings.max_header_bytes,
+        limit_concurrency=settings.max_connections,  # past it 503, so idle or slow connections cannot pile up
         forwarded_allow_ips=settings.forwarded_allow_ips,  # whose X-Forwarded-For names the client (rate limits)
     )
 

@@ -85,6 +85,12 @@ class Settings:
     max_header_bytes: int = 65_536
     """Most bytes of an unfinished request line and header block the server holds while they arrive (uvicorn's
     h11 limit); past it the connection is answered 400 and closed, so a header that never ends costs no memory."""
+    header_timeout_s: float = 10.0
+    """Seconds a client gets to send a request line and its headers, from the connection's start (or the first
+    byte of a later request on a kept-alive connection); slower gets 408 and the connection is closed."""
+    max_connections: int = 1000
+    """A request that arrives when this many connections are open in the process (its own included) or this many
+    requests are in progress gets 503 and its connection is closed (uvicorn's limit_concurrency)."""
     forwarded_allow_ips: str = "127.0.0.1"
     """Comma-separated proxy addresses whose X-Forwarded-For is believed for the client address (rate limits
     by address behind a gateway); ``*`` trusts any peer."""
@@ -105,6 +111,8 @@ class Settings:
 
         if self.max_header_bytes < 4096:
             raise ValueError("AMPLINE_MAX_HEADER_BYTES >= 4096")
+        if not 0 < self.header_timeout_s <= 300 or not 1 <= self.max_connections <= 100_000:
+            raise ValueError("AMPLINE_HEADER_TIMEOUT_S from 0 (exclusive) to 300, AMPLINE_MAX_CONNECTIONS from 1 to 100000")
         if self.max_chain_leads < 1 or self.max_chain_appliances < 0 or self.max_thevenin_pairs < 0 \
                 or self.max_fill_conductor_groups < 1:
             raise ValueError("AMPLINE_MAX_CHAIN_LEADS >= 1, AMPLINE_MAX_CHAIN_APPLIANCES >= 0, "

@@ -77,3 +77,100 @@ def test_with_keys_on_the_server_output_never_holds_a_key():
     output = server.output()
     assert '"caller": "key:quoting"' in output and '"status": 403' in output  # the lines are there...
     assert KEY[:10] not in output  # ...without the key
+
+
+def _read_until_closed(sock: socket.socket) -> bytes:
+    reply = b""
+    try:
+        while chunk := sock.recv(65_536):
+            reply += chunk
+    except OSError:  # a reset or the socket timeout: what arrived is the answer
+        pass
+    return reply
+
+
+def _trickle_headers(sock: socket.socket, for_s: float = 8) -> tuple[bytes, float]:
+    """Send a request line, then one header line every 0.2 s and never the blank line; (reply, seconds until the
+    server cut the connection off, or for_s when it never did)."""
+    sock.sendall(b"GET /v1/meta HTTP/1.1\r\nHost: x\r\n")
+    started = time.monotonic()
+    try:
+        while time.monotonic() - started < for_s:
+            sock.sendall(b"X-Slow: 1\r\n")
+            time.sleep(0.2)
+    except OSError:
+        pass  # cut off by the server
+    else:
+        return b"", for_s
+    return _read_until_closed(sock), time.monotonic() - started
+
+
+def test_headers_sent_too_slowly_are_cut_off_and_the_server_keeps_serving():
+    # Slowloris: RFC 9110, 15.5.9 (408 when a complete request did not arrive in time, then close).
+    server = start_server(header_timeout_s="1")
+    try:
+        port = _port(server)
+        with socket.create_connection(("127.0.0.1", port), timeout=10) as sock:
+            reply, waited = _trickle_headers(sock)
+        assert waited < 6, f"a client trickling header bytes kept its connection for {waited:.1f} s"
+        assert reply.startswith(b"HTTP/1.1 408 ") or reply == b"", reply[:200]
+        if reply:
+            assert b"application/problem+json" in reply and b"header-timeout" in reply
+
+        # A connection that sends nothing at all is closed too (silently: there was no request to answer).
+        with socket.create_connection(("127.0.0.1", port), timeout=10) as sock:
+            started = time.monotonic()
+            assert _read_until_closed(sock) == b""
+            assert 0.5 < time.monotonic() - started < 5
+
+        # On a kept-alive connection the next request's headers get the same time, from their first byte.
+        with socket.create_connection(("127.0.0.1", port), timeout=10) as sock:
+            sock.sendall(b"GET /healthz HTTP/1.1\r\nHost: x\r\n\r\n")
+            first = b""
+            while not first.endswith(b'{"status":"ok"}'):  # the head and the body may come in separate segments
+                first += sock.recv(65_536)
+            assert first.startswith(b"HTTP/1.1 200 ")
+            reply, waited = _trickle_headers(sock)
+            assert waited < 6, waited
+            assert reply.startswith(b"HTTP/1.1 408 ") or reply == b"", reply[:200]
+
+        assert httpx.get(server.base_url + "/healthz").status_code == 200
+    finally:
+        assert server.stop() in CLEAN_EXITS
+
+
+def test_a_request_beyond_the_connection_cap_gets_503_and_the_cap_frees_up():
+    # common practice: a server bounds its concurrent connections and answers 503 past the bound
+    # (RFC 9110, 15.6.4: 503, the server is temporarily overloaded).
+    server = start_server(max_connections="4")
+    try:
+        idle = [socket.create_connection(("127.0.0.1", _port(server)), timeout=10) for _ in range(3)]
+        try:
+            time.sleep(0.3)  # let the server accept them
+            with socket.create_connection(("127.0.0.1", _port(server)), timeout=10) as sock:
+                sock.sendall(b"GET /healthz HTTP/1.1\r\nHost: x\r\n\r\n")
+                reply = _read_until_closed(sock)
+            assert reply.startswith(b"HTTP/1.1 503 "), reply[:200]
+        finally:
+            for sock in idle:
+                sock.close()
+        time.sleep(0.3)
+        assert httpx.get(server.base_url + "/healthz").status_code == 200
+    finally:
+        assert server.stop() in CLEAN_EXITS
+
+
+def test_content_length_with_transfer_encoding_is_refused_and_nothing_after_it_answered(live_server):
+    # RFC 9112, 6.3, item 3: a message with both may be refused (400) or the connection closed after it,
+    # so that a request smuggled behind it in the same packet is never answered.
+    body = b'{"size": "1.5 mm^2", "length": "18 m"}'
+    smuggled = (b"POST /v1/conductors/resistance HTTP/1.1\r\nHost: x\r\ncontent-type: application/json\r\n"
+                b"content-length: 5\r\ntransfer-encoding: chunked\r\n\r\n"
+                + f"{len(body):x}\r\n".encode() + body + b"\r\n0\r\n\r\n"
+                + b"GET /healthz HTTP/1.1\r\nHost: x\r\n\r\n")
+    with socket.create_connection(("127.0.0.1", _port(live_server)), timeout=5) as sock:
+        sock.sendall(smuggled)
+        reply = _read_until_closed(sock)
+    assert reply.startswith(b"HTTP/1.1 400 "), reply[:200]
+    assert reply.count(b"HTTP/1.1 ") == 1, reply  # the second request got no answer: the connection was closed
+    assert httpx.get(live_server.base_url + "/healthz").status_code == 200

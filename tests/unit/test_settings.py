@@ -51,3 +51,13 @@ def test_impedance_form_ratio_is_bounded():
     assert Settings.from_env({"AMPLINE_NETWORK_IMPEDANCE_FORM_RATIO": "0"}).network_impedance_form_ratio == 0.0
     with pytest.raises(ValueError, match="IMPEDANCE_FORM_RATIO"):
         Settings.from_env({"AMPLINE_NETWORK_IMPEDANCE_FORM_RATIO": "0.5"})
+
+
+def test_header_timeout_and_connection_cap_are_read_and_bounded():
+    # common practice: a header-read timeout and a connection cap must be positive and finite to bound anything
+    s = Settings.from_env({"AMPLINE_HEADER_TIMEOUT_S": "2.5", "AMPLINE_MAX_CONNECTIONS": "64"})
+    assert (s.header_timeout_s, s.max_connections) == (2.5, 64)
+    for name, value in (("HEADER_TIMEOUT_S", "0"), ("HEADER_TIMEOUT_S", "301"), ("HEADER_TIMEOUT_S", "-1"),
+                        ("MAX_CONNECTIONS", "0"), ("MAX_CONNECTIONS", "100001")):
+        with pytest.raises(ValueError, match=f"AMPLINE_{name}"):
+            Settings.from_env({f"AMPLINE_{name}": value})
