@@ -34,9 +34,10 @@ def main() -> None:
         # h11, not httptools: httptools buffers a request's header block without limit (measured: four
         # connections sending 50 MB header lines added 190 MB to the process); h11 refuses past this size.
         # Our subclass adds a header-read timeout and refuses Content-Length with Transfer-Encoding.
-        http=functools.partial(HardenedH11Protocol, header_timeout_s=settings.header_timeout_s),  # type: ignore[arg-type]
+        # Our subclass also caps connections (503 past AMPLINE_MAX_CONNECTIONS, uvicorn's limit_concurrency rule).
+        http=functools.partial(HardenedH11Protocol, header_timeout_s=settings.header_timeout_s,  # type: ignore[arg-type]
+                               max_connections=settings.max_connections),
         h11_max_incomplete_event_size=settings.max_header_bytes,
-        limit_concurrency=settings.max_connections,  # past it 503, so idle or slow connections cannot pile up
         forwarded_allow_ips=settings.forwarded_allow_ips,  # whose X-Forwarded-For names the client (rate limits)
     )
 

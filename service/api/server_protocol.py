@@ -11,7 +11,10 @@ the connection open, which is how requests are smuggled past a proxy that goes b
 section 6.3, item 3, lets a server refuse such a message or close after it: it is refused here with 400 and the
 connection closed, so nothing sent after it in the same packet is answered.
 
-Handed to uvicorn as ``functools.partial(HardenedH11Protocol, header_timeout_s=...)`` in service/__main__.py
+It also caps connections and requests in progress as uvicorn's limit_concurrency does, but answers the 503 as
+problem+json with Retry-After (a probe shares the cap).
+
+Handed to uvicorn as ``functools.partial(HardenedH11Protocol, header_timeout_s=..., max_connections=...)`` in service/__main__.py
 (a partial of a module-level class pickles, so worker processes get it too). Nothing here depends on the app.
 """
 
@@ -44,26 +47,49 @@ class FramingStrictConnection(h11.Connection):
         return event
 
 
-def _timeout_response(header_timeout_s: float) -> bytes:
-    body = json.dumps({
-        "type": PROBLEM_BASE + "header-timeout",
-        "title": "Request Timeout",
-        "status": 408,
-        "detail": f"The request line and headers did not arrive within {header_timeout_s:g} s.",
-    }).encode()
+def _problem(status: int, slug: str, title: str, detail: str) -> tuple[list[tuple[bytes, bytes]], bytes]:
+    """Headers and body of a problem+json answer given before the app is reached, closing the connection."""
+    body = json.dumps({"type": PROBLEM_BASE + slug, "title": title, "status": status, "detail": detail}).encode()
     headers = [(b"content-type", b"application/problem+json"), (b"content-length", str(len(body)).encode()),
                (b"connection", b"close"), *BASE_HEADERS]
+    return headers, body
+
+
+def _timeout_response(header_timeout_s: float) -> bytes:
+    headers, body = _problem(408, "header-timeout", "Request Timeout",
+                             f"The request line and headers did not arrive within {header_timeout_s:g} s.")
     head = b"".join(name + b": " + value + b"\r\n" for name, value in headers)
     return b"HTTP/1.1 408 Request Timeout\r\n" + head + b"\r\n" + body
 
 
+_BUSY_HEADERS, _BUSY_BODY = _problem(503, "server-busy", "Service Unavailable",
+                                     "The server has as many connections or requests as it takes; retry later.")
+
+
+async def _server_busy(scope: Any, receive: Any, send: Any) -> None:
+    await send({"type": "http.response.start", "status": 503, "headers": [*_BUSY_HEADERS, (b"retry-after", b"1")]})
+    await send({"type": "http.response.body", "body": _BUSY_BODY, "more_body": False})
+
+
 class HardenedH11Protocol(H11Protocol):
-    def __init__(self, *args: Any, header_timeout_s: float, **kwargs: Any) -> None:
+    def __init__(self, *args: Any, header_timeout_s: float, max_connections: int, **kwargs: Any) -> None:
         super().__init__(*args, **kwargs)
+        # uvicorn's own limit_concurrency answers text/plain; this cap is the same rule with a problem+json 503.
+        self.limit_concurrency = None
+        self._max_connections = max_connections
+        self.app = self._app_within_cap
         limit = self.config.h11_max_incomplete_event_size
         self.conn = FramingStrictConnection(h11.SERVER, _DEFAULT_MAX_INCOMPLETE_EVENT_SIZE if limit is None else limit)
         self._header_timeout_s = header_timeout_s
         self._header_timer: asyncio.TimerHandle | None = None
+
+    async def _app_within_cap(self, scope: Any, receive: Any, send: Any) -> None:
+        # Runs as the request's task, which self.tasks already holds: "> cap" is uvicorn's ">= cap" of the others.
+        if len(self.connections) >= self._max_connections or len(self.tasks) > self._max_connections:
+            self.logger.warning("Exceeded concurrency limit.")
+            await _server_busy(scope, receive, send)
+        else:
+            await self.config.loaded_app(scope, receive, send)
 
     def connection_made(self, transport: asyncio.Transport) -> None:  # type: ignore[override]
         super().connection_made(transport)

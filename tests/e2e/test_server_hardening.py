@@ -151,6 +151,7 @@ def test_a_request_beyond_the_connection_cap_gets_503_and_the_cap_frees_up():
                 sock.sendall(b"GET /healthz HTTP/1.1\r\nHost: x\r\n\r\n")
                 reply = _read_until_closed(sock)
             assert reply.startswith(b"HTTP/1.1 503 "), reply[:200]
+            assert b"application/problem+json" in reply and b"server-busy" in reply and b"retry-after: 1" in reply
         finally:
             for sock in idle:
                 sock.close()
