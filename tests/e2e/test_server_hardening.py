@@ -134,6 +134,25 @@ def test_headers_sent_too_slowly_are_cut_off_and_the_server_keeps_serving():
             assert waited < 6, waited
             assert reply.startswith(b"HTTP/1.1 408 ") or reply == b"", reply[:200]
 
+        # The probe's shape: 50 connections trickling header bytes at once are all cut off, not held.
+        slow = [socket.create_connection(("127.0.0.1", port), timeout=10) for _ in range(50)]
+        try:
+            for sock in slow:
+                sock.sendall(b"GET /v1/meta HTTP/1.1\r\nHost: x\r\n")
+            started, open_ = time.monotonic(), set(range(50))
+            while open_ and time.monotonic() - started < 8:
+                for i in list(open_):
+                    try:
+                        slow[i].sendall(b"X-Slow: 1\r\n")
+                    except OSError:
+                        open_.discard(i)
+                time.sleep(0.2)
+            assert not open_, f"{len(open_)} of 50 header tricklers still open after 8 s"
+            assert time.monotonic() - started < 6
+        finally:
+            for sock in slow:
+                sock.close()
+
         assert httpx.get(server.base_url + "/healthz").status_code == 200
     finally:
         assert server.stop() in CLEAN_EXITS
