@@ -35,7 +35,10 @@ class RateLimiter:
         return self._visit(caller, spend=True)
 
     def wait(self, caller: str) -> float:
-        """The seconds until ``caller`` has a token (0.0: it has one now), spending none."""
+        """The seconds until ``caller`` has a token (0.0: it has one now), spending none.  A caller with no
+        bucket yet gets none made, so looking does not push spent buckets out of the bounded memory."""
+        if caller not in self._buckets:
+            return 0.0
         return self._visit(caller, spend=False)
 
     def _visit(self, caller: str, spend: bool) -> float:
