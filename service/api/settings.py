@@ -61,7 +61,8 @@ class Settings:
     """Every knob of the service. Each field is the env var ``AMPLINE_<NAME>``."""
 
     host: str = "127.0.0.1"
-    """Interface the server binds to. Anything but a loopback address (127.0.0.1, ::1, localhost) needs API keys
+    """Interface the server binds to (an IP address or host name). Anything but a loopback address (127.0.0.1, ::1,
+    localhost) needs API keys
     on, or AMPLINE_ALLOW_ANONYMOUS=true."""
     port: int = 8000
     """TCP port the server listens on. Range: from 1 to 65535."""
@@ -165,8 +166,9 @@ class Settings:
             value = getattr(self, name)
             if not bounds.admits(value):
                 raise ValueError(f"{PREFIX}{name.upper()} must be {bounds.text()}, got {value!r}")
-        if self.strict_transport_security and not self.strict_transport_security.startswith("max-age="):
-            raise ValueError("AMPLINE_STRICT_TRANSPORT_SECURITY must start with max-age=")
+        if self.strict_transport_security and not _HSTS.match(self.strict_transport_security):
+            raise ValueError("AMPLINE_STRICT_TRANSPORT_SECURITY must be max-age=<seconds>, optionally followed by "
+                             "'; includeSubDomains' and '; preload' (RFC 6797, section 6.1)")
         _check_access(self)
 
     @classmethod
@@ -204,6 +206,11 @@ class Settings:
 _ORIGIN = re.compile(r"^https?://(?:[A-Za-z0-9](?:[A-Za-z0-9-]{0,61}[A-Za-z0-9])?(?:\.[A-Za-z0-9](?:[A-Za-z0-9-]{0,61}"
                      r"[A-Za-z0-9])?)*|\[[0-9A-Fa-f:.]+\])(?::(?P<port>[0-9]{1,5}))?$")
 _LOOPBACK_NAMES = {"localhost"}
+_HOSTNAME = re.compile(r"^(?=.{1,253}$)[A-Za-z0-9](?:[A-Za-z0-9-]{0,61}[A-Za-z0-9])?(?:\.[A-Za-z0-9](?:[A-Za-z0-9-]{0,61}"
+                       r"[A-Za-z0-9])?)*$")  # RFC 1123 section 2.1
+# RFC 6797 section 6.1: max-age is required, includeSubDomains and preload optional; nothing else, so no setting
+# can put a stray character (a line break) into every answer's headers.
+_HSTS = re.compile(r"^max-age=[0-9]{1,10}(?:; ?includeSubDomains)?(?:; ?preload)?$", re.IGNORECASE)
 
 
 def list_entries(text: str, setting: str) -> list[str]:
@@ -231,7 +238,17 @@ def keys_configured(settings: Settings) -> bool:
     return bool(settings.api_key_hashes.strip() or settings.api_key_hashes_file)
 
 
+def _is_ip(text: str) -> bool:
+    try:
+        ipaddress.ip_address(text)
+    except ValueError:
+        return False
+    return True
+
+
 def _check_access(settings: Settings) -> None:
+    if not (_is_ip(settings.host) or _HOSTNAME.match(settings.host)):
+        raise ValueError(f"AMPLINE_HOST: {settings.host!r} is not an IP address or a host name")
     for origin in list_entries(settings.cors_allow_origins, "cors_allow_origins"):
         match = _ORIGIN.match(origin)
         if not match or not 0 < int(match["port"] or 80) < 65536:

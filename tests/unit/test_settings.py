@@ -154,3 +154,24 @@ def test_a_non_loopback_address_with_keys_off_stops_start_up_unless_anonymous_is
 @pytest.mark.parametrize("host", ["127.0.0.1", "127.0.0.2", "::1", "localhost"])
 def test_loopback_needs_no_keys(host):
     assert Settings.from_env({"AMPLINE_HOST": host}).host == host
+
+
+@pytest.mark.parametrize("value", ["max-age=31536000\r\nX-Evil: 1", "max-age=", "max-age=1y",
+                                   "max-age=300; report-uri=x", "max-age=31536000;includeSubDomains,"])
+def test_strict_transport_security_is_the_header_rfc_6797_defines_and_nothing_more(value):
+    # RFC 6797, section 6.1: max-age=<delta-seconds> [; includeSubDomains] (preload: a browsers' list convention)
+    with pytest.raises(ValueError, match="STRICT_TRANSPORT_SECURITY"):
+        Settings.from_env({"AMPLINE_STRICT_TRANSPORT_SECURITY": value})
+
+
+@pytest.mark.parametrize("value", ["max-age=31536000", "max-age=31536000; includeSubDomains",
+                                   "max-age=63072000; includeSubDomains; preload"])
+def test_strict_transport_security_accepts_its_forms(value):
+    assert Settings.from_env({"AMPLINE_STRICT_TRANSPORT_SECURITY": value}).strict_transport_security == value
+
+
+@pytest.mark.parametrize("host", ["", " ", "0.0.0.0 ", "local host", "-bad.example", "[::1]", "10.0.0.1:8000"])
+def test_a_host_that_is_no_address_or_host_name_stops_start_up(host):
+    # RFC 1123, section 2.1 (host names); Python ipaddress (literals)
+    with pytest.raises(ValueError, match="AMPLINE_HOST"):
+        Settings.from_env({"AMPLINE_HOST": host, "AMPLINE_ALLOW_ANONYMOUS": "true"})
