@@ -62,8 +62,7 @@ class Settings:
 
     host: str = "127.0.0.1"
     """Interface the server binds to (an IP address or host name). Anything but a loopback address (127.0.0.1, ::1,
-    localhost) needs API keys
-    on, or AMPLINE_ALLOW_ANONYMOUS=true."""
+    localhost) needs API keys on, or AMPLINE_ALLOW_ANONYMOUS=true."""
     port: int = 8000
     """TCP port the server listens on. Range: from 1 to 65535."""
     workers: int = 1
