@@ -38,7 +38,10 @@ def main() -> None:
         http=functools.partial(HardenedH11Protocol, header_timeout_s=settings.header_timeout_s,  # type: ignore[arg-type]
                                max_connections=settings.max_connections),
         h11_max_incomplete_event_size=settings.max_header_bytes,
-        forwarded_allow_ips=settings.forwarded_allow_ips,  # whose X-Forwarded-For names the client (rate limits)
+        # X-Forwarded-For is believed only from the proxies the operator lists (none by default): uvicorn would
+        # otherwise trust loopback, and any local caller could rotate the header past the rate limits.
+        proxy_headers=bool(settings.forwarded_allow_ips),
+        forwarded_allow_ips=settings.forwarded_allow_ips or [],
     )
 
 

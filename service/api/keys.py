@@ -37,13 +37,19 @@ class KeyHash:
 
 
 def parse_key_hashes(text: str, source: str) -> list[KeyHash]:
-    """Entries separated by commas or newlines, ``#`` starting a comment; a bad entry stops start-up."""
+    """Entries separated by commas or newlines, ``#`` starting a comment; a bad entry stops start-up.
+
+    A blank line or a comment is nothing, but an empty entry on a line (``a,,b``, a lone ``,``) is refused, and
+    so is a setting that is not blank yet holds no hash: either would otherwise turn keys off in silence."""
     found = []
     for line_no, line in enumerate(text.splitlines(), 1):
-        for raw in line.split("#", 1)[0].split(","):
+        content = line.split("#", 1)[0]
+        if not content.strip():
+            continue
+        for raw in content.split(","):
             entry = raw.strip()
             if not entry:
-                continue
+                raise ValueError(f"{source} line {line_no}: an empty entry (a stray comma?)")
             match = _ENTRY.match(entry)
             algorithm = _ALGORITHMS.get(len(match["digest"])) if match else None
             if algorithm is None:  # the entry itself is not echoed: it may be a plain key pasted by mistake
@@ -51,6 +57,8 @@ def parse_key_hashes(text: str, source: str) -> list[KeyHash]:
                                  "(make one with: python -m service.api.keys hash)")
             label = match["label"] or f"key-{len(found) + 1}"
             found.append(KeyHash(label, algorithm, bytes.fromhex(match["digest"])))
+    if text.strip() and not found:
+        raise ValueError(f"{source} is set but holds no key hash: every caller would be let in")
     return found
 
 
@@ -74,6 +82,9 @@ class KeyRing:
             if not hashes:
                 raise ValueError(f"AMPLINE_API_KEY_HASHES_FILE ({path}) holds no key hash: every caller would be refused")
         return cls(hashes)
+
+    def __len__(self) -> int:
+        return len(self._hashes)
 
     @property
     def enabled(self) -> bool:

@@ -32,14 +32,24 @@ class RateLimiter:
 
     def take(self, caller: str) -> float:
         """Spend one token of ``caller``'s bucket: 0.0 if allowed, else the seconds until one is back."""
+        return self._visit(caller, spend=True)
+
+    def wait(self, caller: str) -> float:
+        """The seconds until ``caller`` has a token (0.0: it has one now), spending none.  A caller with no
+        bucket yet gets none made, so looking does not push spent buckets out of the bounded memory."""
+        if caller not in self._buckets:
+            return 0.0
+        return self._visit(caller, spend=False)
+
+    def _visit(self, caller: str, spend: bool) -> float:
         now = self._clock()
         tokens, updated = self._buckets.pop(caller, (self.capacity, now))
         tokens = min(self.capacity, tokens + (now - updated) * self.rate)
         wait = 0.0
-        if tokens >= 1.0:
-            tokens -= 1.0
-        else:
+        if tokens < 1.0:
             wait = (1.0 - tokens) / self.rate
+        elif spend:
+            tokens -= 1.0
         self._buckets[caller] = (tokens, now)  # re-inserted last: the most recently seen
         while len(self._buckets) > self.max_clients:
             self._buckets.popitem(last=False)

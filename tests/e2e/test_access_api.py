@@ -191,3 +191,40 @@ def test_security_headers_are_on_every_kind_of_answer():
 def test_strict_transport_security_when_configured():
     with client(strict_transport_security="max-age=31536000; includeSubDomains") as c:
         assert c.get("/v1/meta").headers["strict-transport-security"] == "max-age=31536000; includeSubDomains"
+
+
+# --------------------------------------------------------------------------- issue 21, item 7: guessing is limited
+
+def test_key_guesses_from_one_address_meet_a_limit_with_default_settings():
+    # issue 21: 100 key guesses got 100 x 403 and no 429 (the rate limit is off by default, and guesses
+    # only spent the address's share of it). Failed authentications are counted on their own, always.
+    defaults = Settings()
+    with keyed() as c:
+        answers = [c.get("/v1/meta", headers=bearer(f"guess-{n}")).status_code for n in range(100)]
+        assert answers[:defaults.auth_failure_limit] == [403] * defaults.auth_failure_limit
+        assert set(answers[defaults.auth_failure_limit:]) == {429}
+        # Locked out, the address is not told whether a key is right: even the correct one waits.
+        limited = c.get("/v1/meta", headers=bearer(KEY))
+        assert_problem(limited, 429, "rate-limited")
+        assert int(limited.headers["retry-after"]) >= 1
+        assert c.get("/healthz").status_code == 200  # probes are never limited
+
+
+def test_malformed_keys_count_as_failures_and_a_missing_one_does_not():
+    with keyed(auth_failure_limit=3) as c:
+        for _ in range(10):  # no key at all is not a guess: nothing to learn from it
+            assert c.get("/v1/meta").status_code == 401
+        assert c.get("/v1/meta", headers=bearer(KEY)).status_code == 200
+        answers = [c.get("/v1/meta", headers={"authorization": "Basic x"}).status_code for _ in range(4)]
+        assert answers == [401, 401, 401, 429]
+
+
+def test_start_up_logs_whether_keys_are_on(capsys):
+    with client():
+        pass
+    with keyed():
+        pass
+    lines = [json.loads(line) for line in capsys.readouterr().out.splitlines() if line.startswith("{")]
+    access = [r for r in lines if r.get("event") == "access_control"]
+    assert [(r["api_keys"], r["level"]) for r in access] == [("off", "warning"), ("on", "info")]
+    assert access[1]["api_key_count"] == 2 and hash_key(KEY) not in json.dumps(access)

@@ -6,6 +6,7 @@ import socket
 import time
 
 import httpx
+import pytest
 
 from service.api.keys import hash_key
 from tests.e2e.conftest import CLEAN_EXITS, start_server
@@ -194,3 +195,50 @@ def test_content_length_with_transfer_encoding_is_refused_and_nothing_after_it_a
     assert reply.startswith(b"HTTP/1.1 400 "), reply[:200]
     assert reply.count(b"HTTP/1.1 ") == 1, reply  # the second request got no answer: the connection was closed
     assert httpx.get(live_server.base_url + "/healthz").status_code == 200
+
+
+# --------------------------------------------------------------------------- issue 21, item 7: X-Forwarded-For
+
+def _rotating(base: str, n: int, **headers: str) -> list[int]:
+    """n requests from this (loopback) client, each claiming another client address."""
+    with httpx.Client(base_url=base) as c:
+        return [c.get("/v1/meta", headers={"x-forwarded-for": f"198.51.100.{i % 250 + 1}", **headers}).status_code
+                for i in range(n)]
+
+
+def test_with_default_settings_rotating_x_forwarded_for_does_not_escape_the_rate_limit():
+    # issue 21: loopback was trusted as a proxy by default, so a local caller rotating the header never met
+    # the limit. No proxy is trusted unless named (AMPLINE_FORWARDED_ALLOW_IPS).
+    server = start_server(rate_limit_requests="3")
+    try:
+        assert _rotating(server.base_url, 6) == [200, 200, 200, 429, 429, 429]
+    finally:
+        assert server.stop() in CLEAN_EXITS
+
+
+def test_with_default_settings_key_guesses_meet_429_whatever_x_forwarded_for_says():
+    # issue 21: 100 key guesses got 100 x 403 and no 429
+    server = start_server(api_key_hashes=f"quoting={hash_key(KEY)}")
+    try:
+        answers = _rotating(server.base_url, 100, authorization="Bearer wrong-guess")
+        assert 403 in answers and answers[-1] == 429 and answers.count(403) <= 20  # AMPLINE_AUTH_FAILURE_LIMIT
+    finally:
+        assert server.stop() in CLEAN_EXITS
+
+
+def test_a_named_proxy_is_believed():
+    server = start_server(rate_limit_requests="3", forwarded_allow_ips="127.0.0.1")
+    try:  # each claimed client has its own allowance: the operator said loopback is their proxy
+        assert set(_rotating(server.base_url, 6)) == {200}
+    finally:
+        assert server.stop() in CLEAN_EXITS
+
+
+def test_a_public_address_with_keys_off_does_not_start():
+    try:
+        server = start_server(host="0.0.0.0")
+    except RuntimeError as refused:
+        assert "API keys are off" in str(refused)
+    else:
+        server.stop()
+        pytest.fail("the server served on 0.0.0.0 with keys off")

@@ -64,6 +64,20 @@ def test_settings_are_the_services_and_it_accepts_them(service):
     assert settings.host == "0.0.0.0"
 
 
+def test_keys_are_on_from_a_secret_and_the_service_would_refuse_to_run_without_them(service):
+    # issue 21, item 8: the shipped file left keys off on 0.0.0.0, reachable by anyone on the office network
+    env = {k: str(v) for k, v in service["environment"].items()}
+    settings = Settings.from_env(env)
+    assert settings.api_key_hashes_file and not settings.allow_anonymous
+    (secret,) = service["secrets"]
+    assert settings.api_key_hashes_file == f"/run/secrets/{secret}"  # where Compose mounts a secret
+    document = yaml.safe_load(COMPOSE.read_text(encoding="utf-8"))
+    source = (COMPOSE.parent / document["secrets"][secret]["file"]).resolve()
+    assert source.relative_to(ROOT).as_posix() in (ROOT / ".gitignore").read_text(encoding="utf-8").split()
+    with pytest.raises(ValueError, match="API keys are off"):  # the same file with the key file taken out
+        Settings.from_env({**env, "AMPLINE_API_KEY_HASHES_FILE": ""})
+
+
 def test_published_port_is_the_one_the_service_listens_on(service):
     (mapping,) = service["ports"]
     container_port = int(str(mapping).rsplit(":", 1)[1])

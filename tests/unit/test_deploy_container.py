@@ -163,7 +163,13 @@ def test_settings_are_amplines_environment_only():
     assert env["AMPLINE_HOST"] == "0.0.0.0"
     known = {PREFIX + f.name.upper() for f in fields(Settings)}
     assert {k for k in env if k.startswith(PREFIX)} <= known
-    Settings.from_env({k: v for k, v in env.items() if k.startswith(PREFIX)})  # values the service accepts
+    own = {k: v for k, v in env.items() if k.startswith(PREFIX)}
+    # issue 21, item 8: the image binds 0.0.0.0, so alone it does not start with keys off; with a key file (what
+    # deploy/compose.yaml and deploy/kubernetes mount) or an explicit AMPLINE_ALLOW_ANONYMOUS it does.
+    with pytest.raises(ValueError, match="API keys are off"):
+        Settings.from_env(own)
+    Settings.from_env({**own, "AMPLINE_API_KEY_HASHES_FILE": "/run/secrets/ampline_api_key_hashes"})
+    Settings.from_env({**own, "AMPLINE_ALLOW_ANONYMOUS": "true"})
 
 
 def _copied_sources() -> list[str]:

@@ -83,6 +83,22 @@ def test_configmap_holds_only_real_settings_and_the_service_accepts_them():
     assert settings.host == "0.0.0.0" and settings.workers == 1
 
 
+def test_keys_are_on_from_a_mounted_secret_and_the_pods_would_not_start_without_them():
+    # issue 21, item 8: the shipped files left keys off on 0.0.0.0, reachable by anyone on the network
+    data = _settings()
+    settings = Settings.from_env(data)
+    assert settings.api_key_hashes_file and not settings.allow_anonymous
+    pod = _one("Deployment")["spec"]["template"]["spec"]
+    mounts = {m["name"]: m for m in _container()["volumeMounts"]}
+    (keys,) = [v for v in pod["volumes"] if "secret" in v]
+    mount = mounts[keys["name"]]
+    assert mount["readOnly"] is True and keys["secret"]["optional"] is False  # no Secret: no pod, not an open one
+    (item,) = keys["secret"]["items"]
+    assert settings.api_key_hashes_file == f"{mount['mountPath']}/{item['path']}"
+    with pytest.raises(ValueError, match="API keys are off"):  # the same settings with the key file taken out
+        Settings.from_env({**data, "AMPLINE_API_KEY_HASHES_FILE": ""})
+
+
 def test_pod_gets_its_settings_from_the_configmap():
     refs = [e["configMapRef"]["name"] for e in _container()["envFrom"]]
     assert refs == [_one("ConfigMap")["metadata"]["name"]]

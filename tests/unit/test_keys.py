@@ -66,3 +66,17 @@ def test_new_command_prints_a_key_and_its_hash(capsys):
     out = capsys.readouterr().out.splitlines()
     key = out[0].rsplit(" ", 1)[1]
     assert len(key) >= 40 and out[1].endswith(hash_key(key))
+
+
+# issue 21, item 8: a setting that holds no hash must not turn keys off in silence (fail closed, common practice)
+@pytest.mark.parametrize("value", [",", " , ", ",,,", f"{hash_key('a')},", f",{hash_key('a')}",
+                                   f"{hash_key('a')},,{hash_key('b')}", "# a comment only"])
+def test_an_empty_entry_or_a_setting_without_a_hash_stops_start_up(value):
+    with pytest.raises(ValueError, match="empty entry|holds no key hash"):
+        KeyRing.from_settings(Settings(api_key_hashes=value))
+
+
+def test_blank_lines_and_comments_in_a_key_file_are_not_entries(tmp_path):
+    path = tmp_path / "keys"
+    path.write_text(f"# issued 2026-11\n\nquoting={hash_key('q')}  # the quoting system\n\n", encoding="utf-8")
+    assert KeyRing.from_settings(Settings(api_key_hashes_file=str(path))).match("q") == "quoting"
