@@ -33,7 +33,7 @@ class Settings:
     """Largest accepted body for POST /v1/networks/solve only, in bytes (default 32 MiB; larger
     bodies get 413). A 100,000-node resistor grid in the compact array form is about 7 MB."""
     max_network_elements: int = 500_000
-    """Most elements one network may have; each branch of an array element counts as one.
+    """Most elements one network may have; an array element counts one plus one per branch.
     Past it the request gets 422 before anything is solved."""
     max_network_nodes: int = 200_000
     """Most distinct nodes one network may have, the reference node included.

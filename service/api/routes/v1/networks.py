@@ -52,7 +52,8 @@ from service.core.network import (
 # Below this many elements a network is solved on the event loop: such a solve takes tens of milliseconds at
 # most (a 1,862-element grid of separate resistors: 24 ms), and a
 # thread hand-over would double its CPU cost under load (service/api/compute.py). Bigger ones go to the
-# compute pool so that probes and small requests keep being answered during a long solve.
+# compute pool so that probes and small requests keep being answered during a long solve. Counted as the element
+# limit counts them (network_input.element_count: an array is one plus its branches, so empty arrays count too).
 INLINE_ELEMENTS = 2_000
 FREQUENCY_ASSUMED = f"frequency not given: {DEFAULT_FREQUENCY_HZ:g} Hz assumed"
 # Steps listed one by one for at most this many cable runs / Thevenin pairs (the rest are summarised).
