@@ -388,6 +388,7 @@ def to_network(req: s.NetworkSolveRequest, settings: Settings) -> ParsedNetwork:
         on_load_undervoltage=o.on_load_undervoltage,
         thevenin_between=tuple((p.a, p.b) for p in o.thevenin_between),
         impedance_form_ratio=settings.network_impedance_form_ratio,
+        factor_max_bytes=settings.network_factor_max_bytes,
     )
     net = m.Network(elements=elements, frequency_hz=freq, reference_node=req.reference_node)
     return ParsedNetwork(net, options, c.cables, _dead_ends(uses, req.reference_node, labels), frequency_given=given,

@@ -51,3 +51,13 @@ def test_impedance_form_ratio_is_bounded():
     assert Settings.from_env({"AMPLINE_NETWORK_IMPEDANCE_FORM_RATIO": "0"}).network_impedance_form_ratio == 0.0
     with pytest.raises(ValueError, match="IMPEDANCE_FORM_RATIO"):
         Settings.from_env({"AMPLINE_NETWORK_IMPEDANCE_FORM_RATIO": "0.5"})
+
+
+def test_factor_memory_budget_is_bounded():
+    """Default well under the Kubernetes memory limit of deploy/kubernetes (1 Gi): common practice, leave room for
+    the process itself and SuperLU's working memory."""
+    assert Settings().network_factor_max_bytes <= 512 * 2**20
+    assert Settings.from_env({"AMPLINE_NETWORK_FACTOR_MAX_BYTES": "1048576"}).network_factor_max_bytes == 2**20
+    for bad in ("1000", "0", "100000000000000"):
+        with pytest.raises(ValueError, match="NETWORK_FACTOR_MAX_BYTES"):
+            Settings.from_env({"AMPLINE_NETWORK_FACTOR_MAX_BYTES": bad})

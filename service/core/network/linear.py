@@ -22,15 +22,39 @@ SymmetricMode / diag_pivot_thresh tweaks changed nothing measurable.
 from __future__ import annotations
 
 import warnings
+from collections.abc import Iterator
+from contextlib import contextmanager
+from contextvars import ContextVar
 
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 from scipy.linalg import lapack
 
-from .errors import SingularNetworkError
+from .errors import FactorTooLargeError, SingularNetworkError
 
 ORDERING = "MMD_AT_PLUS_A"
+
+# The most bytes the LU factors of one solve may hold (None: unbounded), set by solve() for the thread it runs
+# in. A context variable rather than an argument: every factorisation of a solve (the linear system, each Newton
+# Jacobian, the Thevenin and collapse diagnoses) is checked without threading the budget through each call.
+_FACTOR_BUDGET: ContextVar[float | None] = ContextVar("factor_budget", default=None)
+_INDEX_BYTES = 4  # SuperLU's int row subscripts
+
+
+@contextmanager
+def factor_budget(max_bytes: float | None) -> Iterator[None]:
+    token = _FACTOR_BUDGET.set(max_bytes)
+    try:
+        yield
+    finally:
+        _FACTOR_BUDGET.reset(token)
+
+
+def factor_bytes(entries: int, dtype: np.dtype) -> int:
+    """Storage of LU factors with this many stored entries: a value and a row subscript each (an upper estimate:
+    SuperLU's supernodes share one subscript list per supernode)."""
+    return entries * (np.dtype(dtype).itemsize + _INDEX_BYTES)
 
 
 def _singular(reason: str) -> SingularNetworkError:
@@ -38,6 +62,15 @@ def _singular(reason: str) -> SingularNetworkError:
         f"the network equations are singular ({reason})",
         how_to_fix="look for parts whose voltage or current is not determined, e.g. an "
         "inductor and capacitor exactly in resonance, or ideal elements in conflict",
+    )
+
+
+def _too_large(size: int, budget: float) -> FactorTooLargeError:
+    return FactorTooLargeError(
+        f"the LU factors of this network's equations take {size / 2**20:.0f} MiB, over this service's limit of "
+        f"{budget / 2**20:.0f} MiB: its topology fills in far more than a grid or a radial network does",
+        how_to_fix="split the network, or reduce its meshed part (many branches joining distant nodes fill in most)",
+        data={"factor_bytes": size, "limit_bytes": budget},
     )
 
 
@@ -53,6 +86,15 @@ class Factor:
                 self._lu = spla.splu(matrix, permc_spec=ORDERING)
         except (RuntimeError, spla.MatrixRankWarning) as exc:
             raise _singular(str(exc)) from exc
+        budget = _FACTOR_BUDGET.get()
+        if budget is not None:
+            # SuperLU exposes no symbolic analysis and no memory limit (scipy passes it none), so the factors are
+            # measured once made, and dropped at once when over the budget: that bounds the memory a solve keeps
+            # and stops every further factorisation (Newton steps, Thevenin pairs), not the peak of this one.
+            size = factor_bytes(self._lu.nnz, matrix.dtype)  # nnz: entries SuperLU stores, supernode padding included
+            if size > budget:
+                self._lu = None
+                raise _too_large(size, budget)
 
     def solve(self, rhs: np.ndarray) -> np.ndarray:
         return self._lu.solve(rhs)
