@@ -91,3 +91,13 @@ def test_the_measure_is_not_below_the_factors_storage():
 def test_the_budget_option_is_checked(bad):
     with pytest.raises(InvalidValueError, match="factor_max_bytes"):
         solve(GRID, SolveOptions(factor_max_bytes=bad))
+
+
+def test_a_past_deadline_stops_the_solve_before_its_next_factorisation():
+    """A factorisation cannot be interrupted, so an abandoned solve (its 503 already sent) stops at the next one
+    (common practice: check a deadline at each unit of work that cannot itself be cut short)."""
+    from service.core.network import DeadlineExceededError
+
+    with pytest.raises(DeadlineExceededError):
+        solve(GRID, SolveOptions(deadline_s=0.0))  # linear: it was never stopped before
+    assert solve(GRID, SolveOptions(deadline_s=60.0)).converged

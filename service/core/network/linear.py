@@ -21,6 +21,7 @@ SymmetricMode / diag_pivot_thresh tweaks changed nothing measurable.
 
 from __future__ import annotations
 
+import time
 import warnings
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -31,24 +32,25 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 from scipy.linalg import lapack
 
-from .errors import FactorTooLargeError, SingularNetworkError
+from .errors import DeadlineExceededError, FactorTooLargeError, SingularNetworkError
 
 ORDERING = "MMD_AT_PLUS_A"
 
-# The most bytes the LU factors of one solve may hold (None: unbounded), set by solve() for the thread it runs
-# in. A context variable rather than an argument: every factorisation of a solve (the linear system, each Newton
-# Jacobian, the Thevenin and collapse diagnoses) is checked without threading the budget through each call.
-_FACTOR_BUDGET: ContextVar[float | None] = ContextVar("factor_budget", default=None)
+# What every sparse factorisation of one solve is held to, set by solve() for the thread it runs in: the most bytes
+# its LU factors may take (None: unbounded) and the deadline (a time.monotonic() value, None: none). A context
+# variable rather than an argument: every factorisation of a solve (the linear system, each Newton Jacobian, the
+# Thevenin and collapse diagnoses) is checked without threading the limits through each call.
+_LIMITS: ContextVar[tuple[float | None, float | None]] = ContextVar("factor_limits", default=(None, None))
 _INDEX_BYTES = 4  # SuperLU's int row subscripts
 
 
 @contextmanager
-def factor_budget(max_bytes: float | None) -> Iterator[None]:
-    token = _FACTOR_BUDGET.set(max_bytes)
+def factor_limits(max_bytes: float | None, deadline: float | None) -> Iterator[None]:
+    token = _LIMITS.set((max_bytes, deadline))
     try:
         yield
     finally:
-        _FACTOR_BUDGET.reset(token)
+        _LIMITS.reset(token)
 
 
 def factor_bytes(entries: int, dtype: np.dtype) -> int:
@@ -80,13 +82,18 @@ class Factor:
     __slots__ = ("_lu",)
 
     def __init__(self, matrix: sp.csc_matrix) -> None:
+        budget, deadline = _LIMITS.get()
+        if deadline is not None and time.monotonic() >= deadline:
+            # A factorisation cannot be interrupted once begun (it runs in C), so the deadline is checked before
+            # each: work abandoned past its deadline (a 503 already sent) stops at the next one.
+            raise DeadlineExceededError("the solve ran out of its time budget (deadline_s) before a factorisation",
+                                        how_to_fix="allow more time, or solve a smaller network")
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("error", spla.MatrixRankWarning)
                 self._lu = spla.splu(matrix, permc_spec=ORDERING)
         except (RuntimeError, spla.MatrixRankWarning) as exc:
             raise _singular(str(exc)) from exc
-        budget = _FACTOR_BUDGET.get()
         if budget is not None:
             # SuperLU exposes no symbolic analysis and no memory limit (scipy passes it none), so the factors are
             # measured once made, and dropped at once when over the budget: that bounds the memory a solve keeps

@@ -323,9 +323,9 @@ class SolveOptions:
     * ``deadline_s``: a wall-clock budget in seconds for the load-flow
       iteration, counted from the start of the solve; None (the default) means
       only ``max_iterations`` bounds it.  It is checked after every Newton step,
-      so a step in progress is finished (the overrun is at most one step) and a
-      network without nonlinear loads is never stopped.  Running out before
-      convergence raises DeadlineExceededError (a ConvergenceError).
+      so a step in progress is finished (the overrun is at most one step), and
+      before every sparse factorisation (a factorisation under way cannot be
+      stopped).  Running out raises DeadlineExceededError (a ConvergenceError).
     * ``factor_max_bytes``: the most bytes the LU factors of any one factorisation of the solve may take; None
       (the default) means unbounded.  Each factorisation is measured as soon as it is made and, above the
       limit, dropped and refused with FactorTooLargeError: it bounds what a solve keeps and stops it from

@@ -39,7 +39,7 @@ from .errors import (
     VoltageCollapseError,
 )
 from .expand import expand, reduce_some
-from .linear import factor_budget
+from .linear import factor_limits
 from .loads import max_transferable_power, upper_operating_voltage
 from .newton import port_voltage, solve_nonlinear
 from .nodes import NodeTable
@@ -93,8 +93,13 @@ def solve(network: m.Network, options: m.SolveOptions | None = None) -> Solution
     started = time.monotonic()
     options = options or m.SolveOptions()
     with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"), \
-            factor_budget(options.factor_max_bytes):  # checked by _prepare before any factorisation
+            factor_limits(options.factor_max_bytes, _deadline(options, started)):  # options checked by _prepare
         return _prepare(network, options)._solve_from(started)
+
+
+def _deadline(options: m.SolveOptions, started: float) -> float | None:
+    d = options.deadline_s
+    return started + d if isinstance(d, (int, float)) and not isinstance(d, bool) and math.isfinite(d) else None
 
 
 def prepare(network: m.Network, options: m.SolveOptions | None = None) -> PreparedNetwork:
