@@ -77,7 +77,8 @@ def _too_large(size: int, budget: float) -> FactorTooLargeError:
 
 
 class Factor:
-    """An LU factorisation that raises SingularNetworkError instead of RuntimeError."""
+    """An LU factorisation that raises SingularNetworkError instead of RuntimeError, held to the solve's limits
+    (factor_limits: DeadlineExceededError before it starts, FactorTooLargeError when its factors are too big)."""
 
     __slots__ = ("_lu",)
 
@@ -95,7 +96,7 @@ class Factor:
         except (RuntimeError, spla.MatrixRankWarning) as exc:
             raise _singular(str(exc)) from exc
         if budget is not None:
-            # SuperLU exposes no symbolic analysis and no memory limit (scipy passes it none), so the factors are
+            # scipy's splu offers neither a symbolic analysis nor a memory limit for SuperLU, so the factors are
             # measured once made, and dropped at once when over the budget: that bounds the memory a solve keeps
             # and stops every further factorisation (Newton steps, Thevenin pairs), not the peak of this one.
             size = factor_bytes(self._lu.nnz, matrix.dtype)  # nnz: entries SuperLU stores, supernode padding included
