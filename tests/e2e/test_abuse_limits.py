@@ -123,3 +123,29 @@ def test_raceway_fill_conductor_groups_are_limited_by_a_setting():
     with client(max_fill_conductor_groups=2) as c:
         assert c.post("/v1/raceways/fill", json=fill(2)).status_code == 200
         assert problem(c.post("/v1/raceways/fill", json=fill(3)), 422)["errors"][0]["pointer"] == "/conductors"
+
+
+def _mesh(a, b, last: int) -> dict:
+    return {"frequency": 0, "reference_node": "0", "elements": [
+        {"type": "voltage_source", "id": "v", "pos": "1", "neg": "0", "voltage": 1},
+        {"type": "resistor", "id": "r", "a": str(last), "b": "0", "resistance": 1},
+        {"type": "resistor_array", "id": "mesh", "a": a, "b": b, "resistance": [1.0] * len(a)},
+    ], "options": {"node_voltages": "omit"}}
+
+
+def test_a_network_whose_factors_outgrow_the_memory_setting_gets_422():
+    """Issue 21, item 4: a random topology's LU factors grow far faster than a grid's (George & Liu 1981, from
+    memory); above AMPLINE_NETWORK_FACTOR_MAX_BYTES the answer is a 422 naming the network, a grid with more
+    nodes and branches under the same setting is solved."""
+    import random
+
+    rnd = random.Random(7)
+    n = 3000
+    a = list(range(1, n)) + [rnd.randint(1, n) for _ in range(n)]
+    b = list(range(2, n + 1)) + [rnd.randint(1, n) for _ in range(n)]
+    pairs = [(x, y) for x, y in zip(a, b) if x != y]
+    with client(network_factor_max_bytes=4 * 2**20) as c:
+        body = problem(c.post("/v1/networks/solve", json=_mesh([p[0] for p in pairs], [p[1] for p in pairs], n)), 422)
+        assert body["type"].endswith("/network-too-costly") and "4 MiB" in body["detail"]
+        assert [e["pointer"] for e in body["errors"]] == ["/elements"]
+        assert c.post("/v1/networks/solve", json=grid(60)).status_code == 200  # 3,600 nodes, 7,080 branches

@@ -503,6 +503,59 @@ def test_element_and_node_limits_answer_422_before_solving():
         assert pointers(body) == ["/elements"] and "41 distinct nodes" in body["detail"] and "at most 30" in body["detail"]
 
 
+def _empty_array(k: int) -> dict:
+    return {"type": "resistor_array", "id": f"empty{k}", "a": [], "b": [], "resistance": []}
+
+
+def test_empty_arrays_count_toward_the_element_limit():
+    """An array element counts one plus one per branch, so empty arrays cannot slip under the limit.
+
+    Issue 21, item 3: 200,000 empty arrays counted as zero elements and ran inline for 10.9 s (common practice:
+    a request's cost is bounded by what it sends, and every element costs a conversion).
+    """
+    with TestClient(create_app(Settings(max_network_elements=50))) as small:
+        body = problem(small.post(SOLVE, json={"elements": [V("E", "1", "0", 1), *map(_empty_array, range(60))]}), 422)
+        assert pointers(body) == ["/elements"] and "61 elements" in body["detail"] and "at most 50" in body["detail"]
+
+
+def test_an_empty_array_is_refused_naming_its_field(client):
+    elements = [V("E", "1", "0", 1), R("R1", "1", "0", 10), _empty_array(0)]
+    body = problem(client.post(SOLVE, json={"frequency": 0, "elements": elements}), 422)
+    assert pointers(body) == ["/elements/2/a"] and "at least one branch" in message_at(body, "/elements/2/a")
+
+
+def test_many_empty_arrays_are_refused_before_any_work():
+    import time
+
+    elements = [V("E", "1", "0", 1), *map(_empty_array, range(20_000))]
+    with TestClient(create_app(Settings())) as c:
+        started = time.perf_counter()
+        body = problem(c.post(SOLVE, json={"frequency": 0, "elements": elements}), 422)
+        elapsed = time.perf_counter() - started
+    # Each empty array named up to a few, then one line for the rest: the answer stays small.
+    assert pointers(body)[:2] == ["/elements/1/a", "/elements/2/a"] and len(body["errors"]) <= 6
+    assert "19995 more" in body["errors"][-1]["message"]
+    assert elapsed < 5.0  # generous on a shared 2-core machine; decoding 20,000 elements alone takes ~0.1 s
+
+
+def test_the_inline_decision_counts_array_branches_like_the_limit(monkeypatch):
+    """1,000 one-branch arrays are 2,000 elements: solved on the compute pool, not on the event loop."""
+    from service.api.routes.v1 import networks as route
+
+    seen = []
+
+    async def recording_calculate(state, fn, *args, inline=False):
+        seen.append(inline)
+        return fn(*args)
+
+    monkeypatch.setattr(route, "calculate", recording_calculate)
+    arrays = [{"type": "resistor_array", "id": f"g{k}", "a": [k + 1], "b": [0], "resistance": [1e3]} for k in range(1000)]
+    with TestClient(create_app(Settings())) as c:
+        ok(c.post(SOLVE, json={"frequency": 0, "elements": [V("E", "1", "0", 1), *arrays],
+                               "options": {"node_voltages": "omit"}}))
+    assert seen == [False]
+
+
 def test_body_limits_are_per_route():
     settings = Settings(max_network_body_bytes=8192)
     with TestClient(create_app(settings)) as c:

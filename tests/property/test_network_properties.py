@@ -211,3 +211,23 @@ def test_nonlinear_load_draws_its_rated_power_when_converged(v, r, x, frac, pf, 
     if not load.below_guard_voltage:
         want = 1.0 if model == "constant_power" else load.voltage.magnitude / v
         assert abs(load.rated_power_fraction - want) <= 1e-9
+
+
+# --------------------------------------------------------------------------- the element count of the limits
+
+
+@given(st.lists(st.integers(0, 4), max_size=30), st.integers(0, 4))
+@settings(max_examples=60, deadline=None)
+def test_every_element_adds_to_the_count_the_limits_see(branches, extra):
+    """Adding an element, an empty array included, always raises the count the element limit and the inline
+    decision use (issue 21, item 3: empty arrays once counted zero; common practice: every element costs work)."""
+    from service.api.network_input import element_count
+    from service.api.schemas.v1 import networks as s
+
+    def request(sizes):
+        arrays = [s.ResistorArrayIn(id=f"g{k}", a=[1] * n, b=[2] * n, resistance=[1.0] * n)
+                  for k, n in enumerate(sizes)]
+        return s.NetworkSolveRequest(elements=arrays)
+
+    before, after = element_count(request(branches)), element_count(request([*branches, extra]))
+    assert after >= before + 1 + extra

@@ -185,3 +185,13 @@ def test_a_host_that_is_no_address_or_host_name_stops_start_up(host):
     # RFC 1123, section 2.1 (host names); Python ipaddress (literals)
     with pytest.raises(ValueError, match="AMPLINE_HOST"):
         Settings.from_env({"AMPLINE_HOST": host, "AMPLINE_ALLOW_ANONYMOUS": "true"})
+
+
+def test_factor_memory_budget_is_bounded():
+    """Default well under the Kubernetes memory limit of deploy/kubernetes (1 Gi): common practice, leave room for
+    the process itself and SuperLU's working memory."""
+    assert Settings().network_factor_max_bytes <= 512 * 2**20
+    assert Settings.from_env({"AMPLINE_NETWORK_FACTOR_MAX_BYTES": "1048576"}).network_factor_max_bytes == 2**20
+    for bad in ("1000", "0", "100000000000000"):
+        with pytest.raises(ValueError, match="NETWORK_FACTOR_MAX_BYTES"):
+            Settings.from_env({"AMPLINE_NETWORK_FACTOR_MAX_BYTES": bad})

@@ -16,6 +16,7 @@ from .errors import (
     DeadlineExceededError,
     DuplicateElementIdError,
     EmptyNetworkError,
+    FactorTooLargeError,
     FloatingNodesError,
     InvalidNodeError,
     InvalidValueError,
@@ -63,7 +64,7 @@ from .solver import PreparedNetwork, prepare, solve
 __all__ = [
     "ArrayElementResult", "ArrayValues", "CableRun", "Capacitor", "ConvergenceError", "CurrentSource",
     "CurrentSourceCutsetError", "DeadlineExceededError", "DuplicateElementIdError", "Element", "ElementResult", "EmptyNetworkError",
-    "FloatingNodesError", "Impedance", "Inductor", "InvalidNodeError", "InvalidValueError",
+    "FactorTooLargeError", "FloatingNodesError", "Impedance", "Inductor", "InvalidNodeError", "InvalidValueError",
     "LineToLineVoltage", "Load", "LoadUndervoltageError", "Network", "NetworkError", "NodeVoltage",
     "NonFiniteResultError", "Phasor", "PowerTotals", "PreparedNetwork", "ResonanceError", "Resistor", "ResistorArray", "SeriesRLC",
     "SingularNetworkError", "Solution", "SolveOptions", "SupplyPhaseResult", "Switch",

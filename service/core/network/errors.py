@@ -114,6 +114,15 @@ class ResonanceError(SingularNetworkError):
     CODE = "resonant_network"
 
 
+class FactorTooLargeError(NetworkError):
+    """The LU factors of the network's equations outgrew the memory budget (SolveOptions.factor_max_bytes).
+
+    ``data``: ``factor_bytes`` (the factors' storage, estimated from their entry count) and ``limit_bytes``.
+    """
+
+    CODE = "network_too_costly"
+
+
 class ConvergenceError(NetworkError):
     CODE = "no_convergence"
 

@@ -21,16 +21,42 @@ SymmetricMode / diag_pivot_thresh tweaks changed nothing measurable.
 
 from __future__ import annotations
 
+import time
 import warnings
+from collections.abc import Iterator
+from contextlib import contextmanager
+from contextvars import ContextVar
 
 import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 from scipy.linalg import lapack
 
-from .errors import SingularNetworkError
+from .errors import DeadlineExceededError, FactorTooLargeError, SingularNetworkError
 
 ORDERING = "MMD_AT_PLUS_A"
+
+# What every sparse factorisation of one solve is held to, set by solve() for the thread it runs in: the most bytes
+# its LU factors may take (None: unbounded) and the deadline (a time.monotonic() value, None: none). A context
+# variable rather than an argument: every factorisation of a solve (the linear system, each Newton Jacobian, the
+# Thevenin and collapse diagnoses) is checked without threading the limits through each call.
+_LIMITS: ContextVar[tuple[float | None, float | None]] = ContextVar("factor_limits", default=(None, None))
+_INDEX_BYTES = 4  # SuperLU's int row subscripts
+
+
+@contextmanager
+def factor_limits(max_bytes: float | None, deadline: float | None) -> Iterator[None]:
+    token = _LIMITS.set((max_bytes, deadline))
+    try:
+        yield
+    finally:
+        _LIMITS.reset(token)
+
+
+def factor_bytes(entries: int, dtype: np.dtype) -> int:
+    """Storage of LU factors with this many stored entries: a value and a row subscript each (an upper estimate:
+    SuperLU's supernodes share one subscript list per supernode)."""
+    return entries * (np.dtype(dtype).itemsize + _INDEX_BYTES)
 
 
 def _singular(reason: str) -> SingularNetworkError:
@@ -41,18 +67,42 @@ def _singular(reason: str) -> SingularNetworkError:
     )
 
 
+def _too_large(size: int, budget: float) -> FactorTooLargeError:
+    return FactorTooLargeError(
+        f"the LU factors of this network's equations take {size / 2**20:.0f} MiB, over this service's limit of "
+        f"{budget / 2**20:.0f} MiB: its topology fills in far more than a grid or a radial network does",
+        how_to_fix="split the network, or reduce its meshed part (many branches joining distant nodes fill in most)",
+        data={"factor_bytes": size, "limit_bytes": budget},
+    )
+
+
 class Factor:
-    """An LU factorisation that raises SingularNetworkError instead of RuntimeError."""
+    """An LU factorisation that raises SingularNetworkError instead of RuntimeError, held to the solve's limits
+    (factor_limits: DeadlineExceededError before it starts, FactorTooLargeError when its factors are too big)."""
 
     __slots__ = ("_lu",)
 
     def __init__(self, matrix: sp.csc_matrix) -> None:
+        budget, deadline = _LIMITS.get()
+        if deadline is not None and time.monotonic() >= deadline:
+            # A factorisation cannot be interrupted once begun (it runs in C), so the deadline is checked before
+            # each: work abandoned past its deadline (a 503 already sent) stops at the next one.
+            raise DeadlineExceededError("the solve ran out of its time budget (deadline_s) before a factorisation",
+                                        how_to_fix="allow more time, or solve a smaller network")
         try:
             with warnings.catch_warnings():
                 warnings.simplefilter("error", spla.MatrixRankWarning)
                 self._lu = spla.splu(matrix, permc_spec=ORDERING)
         except (RuntimeError, spla.MatrixRankWarning) as exc:
             raise _singular(str(exc)) from exc
+        if budget is not None:
+            # scipy's splu offers neither a symbolic analysis nor a memory limit for SuperLU, so the factors are
+            # measured once made, and dropped at once when over the budget: that bounds the memory a solve keeps
+            # and stops every further factorisation (Newton steps, Thevenin pairs), not the peak of this one.
+            size = factor_bytes(self._lu.nnz, matrix.dtype)  # nnz: entries SuperLU stores, supernode padding included
+            if size > budget:
+                self._lu = None
+                raise _too_large(size, budget)
 
     def solve(self, rhs: np.ndarray) -> np.ndarray:
         return self._lu.solve(rhs)

@@ -323,9 +323,13 @@ class SolveOptions:
     * ``deadline_s``: a wall-clock budget in seconds for the load-flow
       iteration, counted from the start of the solve; None (the default) means
       only ``max_iterations`` bounds it.  It is checked after every Newton step,
-      so a step in progress is finished (the overrun is at most one step) and a
-      network without nonlinear loads is never stopped.  Running out before
-      convergence raises DeadlineExceededError (a ConvergenceError).
+      so a step in progress is finished (the overrun is at most one step), and
+      before every sparse factorisation (a factorisation under way cannot be
+      stopped).  Running out raises DeadlineExceededError (a ConvergenceError).
+    * ``factor_max_bytes``: the most bytes the LU factors of any one factorisation of the solve may take; None
+      (the default) means unbounded.  Each factorisation is measured as soon as it is made and, above the
+      limit, dropped and refused with FactorTooLargeError: it bounds what a solve keeps and stops it from
+      factorising again, but not the peak of that one factorisation (SuperLU cannot be given a limit).
     * ``impedance_form_ratio``: an element impedance below this fraction of the network's impedance scale (the
       median |Z| of its impedance elements) is solved in impedance form, with its current as an unknown of the
       equations, instead of as an admittance 1/Z.  The equations are the same; the admittance form would put
@@ -342,3 +346,4 @@ class SolveOptions:
     thevenin_between: tuple[tuple[str, str], ...] = ()
     deadline_s: float | None = None
     impedance_form_ratio: float = 1e-6
+    factor_max_bytes: float | None = None

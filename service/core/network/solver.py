@@ -39,6 +39,7 @@ from .errors import (
     VoltageCollapseError,
 )
 from .expand import expand, reduce_some
+from .linear import factor_limits
 from .loads import max_transferable_power, upper_operating_voltage
 from .newton import port_voltage, solve_nonlinear
 from .nodes import NodeTable
@@ -74,6 +75,9 @@ def _check_options(o: m.SolveOptions) -> None:
     r = o.impedance_form_ratio
     if not (isinstance(r, (int, float)) and not isinstance(r, bool) and math.isfinite(r) and 0 <= r < 1):
         bad.append("impedance_form_ratio must be a finite number in [0, 1)")
+    f = o.factor_max_bytes
+    if f is not None and not (isinstance(f, (int, float)) and not isinstance(f, bool) and math.isfinite(f) and f > 0):
+        bad.append("factor_max_bytes must be None or a finite number of bytes > 0")
     if bad:
         raise InvalidValueError("; ".join(bad), how_to_fix="correct the solver options")
 
@@ -87,8 +91,15 @@ def solve(network: m.Network, options: m.SolveOptions | None = None) -> Solution
     NonFiniteResultError or SingularNetworkError, never a stray warning.
     """
     started = time.monotonic()
-    with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
-        return _prepare(network, options or m.SolveOptions())._solve_from(started)
+    options = options or m.SolveOptions()
+    with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"), \
+            factor_limits(options.factor_max_bytes, _deadline(options, started)):  # options checked by _prepare
+        return _prepare(network, options)._solve_from(started)
+
+
+def _deadline(options: m.SolveOptions, started: float) -> float | None:
+    d = options.deadline_s
+    return started + d if isinstance(d, (int, float)) and not isinstance(d, bool) and math.isfinite(d) else None
 
 
 def prepare(network: m.Network, options: m.SolveOptions | None = None) -> PreparedNetwork:

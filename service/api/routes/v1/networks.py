@@ -52,7 +52,8 @@ from service.core.network import (
 # Below this many elements a network is solved on the event loop: such a solve takes tens of milliseconds at
 # most (a 1,862-element grid of separate resistors: 24 ms), and a
 # thread hand-over would double its CPU cost under load (service/api/compute.py). Bigger ones go to the
-# compute pool so that probes and small requests keep being answered during a long solve.
+# compute pool so that probes and small requests keep being answered during a long solve. Counted as the element
+# limit counts them (network_input.element_count: an array is one plus its branches, so empty arrays count too).
 INLINE_ELEMENTS = 2_000
 FREQUENCY_ASSUMED = f"frequency not given: {DEFAULT_FREQUENCY_HZ:g} Hz assumed"
 # Steps listed one by one for at most this many cable runs / Thevenin pairs (the rest are summarised).
@@ -409,7 +410,9 @@ _DESCRIPTION = (
     "current sources cutting a part off, loads asking more power than the network can transfer. The body limit of "
     "this route, and the most nodes and elements per network, are settings (AMPLINE_MAX_NETWORK_*). An exact L-C "
     "resonance is a 422 `resonant-network` naming the elements that cancel; accuracy limits are stated in "
-    "`warnings`.\n\n"
+    "`warnings`. A network whose LU factors would outgrow the memory setting (AMPLINE_NETWORK_FACTOR_MAX_BYTES; "
+    "many branches joining distant nodes fill in far more than a grid) is a 422 `network-too-costly`. An array "
+    "element counts one plus one per branch toward the element limit, and an empty array is refused.\n\n"
     "Sign convention, one for every element: V = v(a) - v(b) across it and I from a to b through it (a voltage "
     "source's a is its positive terminal, also accepted as pos); p_w and q_var are the power the element absorbs "
     "(passive sign convention), so a source that delivers shows p_w < 0 and supplied_w = -p_w. A three-phase "
