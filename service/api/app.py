@@ -41,8 +41,8 @@ API_DESCRIPTION = (
 )
 
 
-def _load_data(app: Litestar) -> None:
-    """Load and validate every data table before serving; a defect stops start-up."""
+def validate_data() -> None:
+    """Load and validate every data table and the libraries built from them; DataTableError on a defect."""
     load_tables()
     default_library()
     default_cords()
@@ -51,6 +51,11 @@ def _load_data(app: Litestar) -> None:
     default_plug_fuses()
     iec60364()
     nec()
+
+
+def _load_data(app: Litestar) -> None:
+    """Validate every data table before serving; a defect stops start-up."""
+    validate_data()
     app.state.ready = True
 
 
