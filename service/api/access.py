@@ -81,3 +81,27 @@ def access_middleware(settings: Settings) -> DefineMiddleware | None:
     if not keys.enabled and limiter is None:
         return None
     return DefineMiddleware(access_guard, keys=keys, limiter=limiter, metrics_require_key=settings.metrics_require_key)
+
+
+def refusal_without_route(scope: Scope, access: DefineMiddleware | None) -> HTTPException | None:
+    """The guard's answer for a request no route took (a 404 or 405), so unknown paths look like known ones.
+
+    The guard runs after routing, so without this an anonymous caller got 404 for an unknown path and 401 for a
+    real one, and could map the routes.  With keys on, a caller the guard would refuse gets the same refusal
+    (rate limit included); a caller with a valid key still gets the 404 or 405.
+    """
+    if access is None or scope["type"] != "http":
+        return None
+    keys: KeyRing = access.kwargs["keys"]
+    limiter: RateLimiter | None = access.kwargs["limiter"]
+    path = scope.get("path", "")
+    if not keys.enabled or path in PROBE_PATHS or (path == METRICS_PATH and not access.kwargs["metrics_require_key"]):
+        return None
+    caller, refusal = _caller(scope, keys)
+    if refusal is None:
+        return None
+    structlog.contextvars.bind_contextvars(caller=caller)
+    if limiter is not None and (wait := limiter.take(caller)) > 0:
+        return HTTPException(status_code=429, detail="Too many requests from this caller; retry later.",
+                             headers={"Retry-After": retry_after_header(wait)})
+    return refusal

@@ -109,7 +109,7 @@ def create_app(settings: Settings | None = None) -> Litestar:
         on_shutdown=[lambda _: compute.shutdown()],
         openapi_config=openapi_config(),
         request_max_body_size=settings.max_body_bytes,
-        state=State({"ready": False, "settings": settings, "compute": compute}),
+        state=State({"ready": False, "settings": settings, "compute": compute, "access": access}),
         debug=False,
     )
     # Wrapped outside litestar's router so 404/405 answers are logged and carry a request id and the security

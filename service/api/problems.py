@@ -30,6 +30,7 @@ from litestar.status_codes import (
 
 from litestar.utils.scope.state import ScopeState
 
+from service.api.access import refusal_without_route
 from service.api.compute import ComputeDeadlineExceeded
 from service.api.duplicate_keys import DuplicateKey, refuse_duplicate_keys
 from service.core.errors import CalcError
@@ -193,6 +194,8 @@ def handle_validation(request: Request, exc: ValidationException) -> Response[Pr
 
 def handle_http(request: Request, exc: HTTPException) -> Response[Problem]:
     status = exc.status_code
+    if status in (404, 405) and (refusal := refusal_without_route(request.scope, request.app.state.get("access"))):
+        exc, status = refusal, refusal.status_code  # with keys on, no route is revealed to a caller without one
     if status == HTTP_400_BAD_REQUEST:  # a body strict JSON refused: say which field if it is NaN/Infinity
         if found := _non_finite_numbers(_received_body(request)):
             summary = "; ".join(f"{p.pointer or '(body)'}: {p.message}" for p in found)
