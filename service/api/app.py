@@ -12,6 +12,7 @@ from litestar.openapi.spec import Contact, Tag
 from service import API_VERSION
 from service.api.access import access_middleware
 from service.api.compute import ComputePool
+from service.api.cors import cors_refusals_as_problems
 from service.api.headers import security_headers_middleware
 from service.api.observability import configure_logging, request_logging_middleware
 from service.api.metrics import metrics_middleware, metrics_route_handlers
@@ -114,5 +115,6 @@ def create_app(settings: Settings | None = None) -> Litestar:
     )
     # Wrapped outside litestar's router so 404/405 answers are logged and carry a request id and the security
     # headers too.
-    app.asgi_handler = security_headers_middleware(request_logging_middleware(app.asgi_handler), settings)
+    handler = cors_refusals_as_problems(app.asgi_handler) if app.cors_config else app.asgi_handler
+    app.asgi_handler = security_headers_middleware(request_logging_middleware(handler), settings)
     return app

@@ -132,6 +132,13 @@ def preflight(c: TestClient, origin: str):
         "access-control-request-headers": "content-type, authorization"})
 
 
+def test_a_preflight_asking_for_a_method_not_allowed_is_refused_as_problem_json():
+    with keyed(cors_allow_origins=ALLOWED_ORIGIN) as c:
+        refused = c.options("/v1/conductors/resistance", headers={
+            "origin": ALLOWED_ORIGIN, "access-control-request-method": "DELETE"})
+        assert "method" in assert_problem(refused, 400, "cors-preflight-refused")["detail"]
+
+
 def test_no_origin_is_allowed_by_default():
     with client() as c:
         assert "access-control-allow-origin" not in preflight(c, ALLOWED_ORIGIN).headers
@@ -147,6 +154,11 @@ def test_a_listed_origin_passes_the_preflight_and_others_are_refused():
         assert "authorization" in allowed.headers["access-control-allow-headers"].lower()
         refused = preflight(c, "https://evil.example.com")
         assert refused.status_code == 400 and "access-control-allow-origin" not in refused.headers
+        # RFC 9457: the refusal is problem+json like every other error, not litestar's text/plain
+        body = assert_problem(refused, 400, "cors-preflight-refused")
+        assert "origin" in body["detail"] and body["instance"] == "/v1/conductors/resistance"
+        assert refused.headers["content-length"] == str(len(refused.content))
+        assert refused.headers["x-content-type-options"] == "nosniff"
         answer = c.post("/v1/conductors/resistance", json=RESISTANCE,
                         headers={"origin": ALLOWED_ORIGIN, **bearer(KEY)})
         assert answer.status_code == 200 and answer.headers["access-control-allow-origin"] == ALLOWED_ORIGIN
