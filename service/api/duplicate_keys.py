@@ -40,20 +40,30 @@ class _Pairs(list):
     """An object kept as its pairs, in order, so a duplicate can be located."""
 
 
+def _entries(value: Any) -> Any:
+    return iter(value) if isinstance(value, _Pairs) else enumerate(value)
+
+
 def _locate(tree: Any) -> tuple[str | int, ...]:
-    """The pointer parts of the first repeated key, in document order (an iterative walk: no recursion limit)."""
-    stack: list[tuple[Any, tuple[str | int, ...]]] = [(tree, ())]
+    """The pointer parts of the first repeated key in document order (an iterative walk: no recursion limit)."""
+    if not isinstance(tree, list):
+        return ()
+    # one frame per open object or array: its remaining entries, its path, the keys seen so far (objects only)
+    stack: list[tuple[Any, tuple[str | int, ...], set[str] | None]] = [
+        (_entries(tree), (), set() if isinstance(tree, _Pairs) else None)]
     while stack:
-        value, path = stack.pop()
-        if isinstance(value, _Pairs):
-            seen: set[str] = set()
-            for key, _ in value:
-                if key in seen:
-                    return (*path, key)
-                seen.add(key)
-            stack.extend(((item, (*path, key)) for key, item in reversed(value)))
-        elif isinstance(value, list):
-            stack.extend(((item, (*path, index)) for index, item in reversed(list(enumerate(value)))))
+        entries, path, seen = stack[-1]
+        entry = next(entries, None)
+        if entry is None:
+            stack.pop()
+            continue
+        key, item = entry
+        if seen is not None:
+            if key in seen:
+                return (*path, key)
+            seen.add(key)
+        if isinstance(item, list):
+            stack.append((_entries(item), (*path, key), set() if isinstance(item, _Pairs) else None))
     return ()
 
 
