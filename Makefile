@@ -9,7 +9,7 @@ VENV   := .venv
 PY     := $(VENV)/bin/python
 PIP    := $(PY) -m pip --disable-pip-version-check
 
-.PHONY: run test install install-test system-test-deps system-deploy-deps contract lock bench load soak startup survival audit clean
+.PHONY: run test install install-test system-test-deps system-deploy-deps contract manifest lock bench load soak startup survival audit clean
 
 $(VENV)/bin/python:
 	$(PYTHON) -m venv $(VENV)
@@ -56,6 +56,11 @@ audit: $(VENV)/.test-installed
 # Regenerate the committed OpenAPI contract from the app.
 contract: install
 	$(PY) -m service.api.contract
+
+# Record the SHA-256 of every data table (service/core/data/MANIFEST.sha256) after checking a new or corrected
+# table against its source; start-up refuses any table file that differs from the manifest.
+manifest: install
+	$(PY) -m service.core.data.manifest --write
 
 # Re-pin dependencies (needs network access to the package index).
 lock: install-test

@@ -10,16 +10,32 @@ runs the ASGI lifespan so start-up table validation fails fast.
 from __future__ import annotations
 
 import functools
+import sys
 
+import structlog
 import uvicorn
 
-from service.api.observability import server_log_config
+from service.api.observability import configure_logging, server_log_config
 from service.api.server_protocol import HardenedH11Protocol
 from service.api.settings import Settings
+from service.core.errors import DataTableError
+
+
+def _refuse_defective_tables(settings: Settings) -> None:
+    """Exit 1 with one log line naming the file when a data table is defective (not a traceback per worker)."""
+    try:
+        from service.api.app import validate_data  # importing the routes builds their examples from the tables
+
+        validate_data()
+    except DataTableError as exc:
+        configure_logging(settings)
+        structlog.get_logger().critical("startup_refused", reason="defective data table", detail=str(exc))
+        sys.exit(1)
 
 
 def main() -> None:
     settings = Settings.from_env()
+    _refuse_defective_tables(settings)
     uvicorn.run(
         "service.api.app:create_app",
         factory=True,

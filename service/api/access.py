@@ -68,22 +68,29 @@ def access_guard(app: ASGIApp, keys: KeyRing, limiter: RateLimiter | None, failu
         if scope["type"] != "http" or path in PROBE_PATHS or (path == METRICS_PATH and not metrics_require_key):
             await app(scope, receive, send)
             return
-        client = scope.get("client")  # the TCP peer, or a trusted proxy's X-Forwarded-For (AMPLINE_FORWARDED_ALLOW_IPS)
-        address = f"address:{client[0] if client else 'unknown'}"
-        if failures is not None and (wait := failures.wait(address)) > 0:
-            structlog.contextvars.bind_contextvars(caller=address)
-            raise _too_many(wait, "Too many refused API keys from this address; retry later.")
-        caller, refusal, failed_authentication = _caller(scope, keys, address)
-        structlog.contextvars.bind_contextvars(caller=caller)
-        if limiter is not None and (wait := limiter.take(caller)) > 0:
-            raise _too_many(wait, "Too many requests from this caller; retry later.")
+        refusal = _decide(scope, keys, limiter, failures)
         if refusal is not None:
-            if failures is not None and failed_authentication:
-                failures.take(address)
             raise refusal
         await app(scope, receive, send)
 
     return guard
+
+
+def _decide(scope: Scope, keys: KeyRing, limiter: RateLimiter | None, failures: RateLimiter | None
+            ) -> HTTPException | None:
+    """The guard's answer for one request: None to let it in, else the refusal (spending what it spends)."""
+    client = scope.get("client")  # the TCP peer, or a trusted proxy's X-Forwarded-For (AMPLINE_FORWARDED_ALLOW_IPS)
+    address = f"address:{client[0] if client else 'unknown'}"
+    if failures is not None and (wait := failures.wait(address)) > 0:
+        structlog.contextvars.bind_contextvars(caller=address)
+        return _too_many(wait, "Too many refused API keys from this address; retry later.")
+    caller, refusal, failed_authentication = _caller(scope, keys, address)
+    structlog.contextvars.bind_contextvars(caller=caller)
+    if limiter is not None and (wait := limiter.take(caller)) > 0:
+        return _too_many(wait, "Too many requests from this caller; retry later.")
+    if refusal is not None and failures is not None and failed_authentication:
+        failures.take(address)
+    return refusal
 
 
 def access_middleware(settings: Settings) -> DefineMiddleware | None:
@@ -112,3 +119,19 @@ def _log_access(settings: Settings, keys: KeyRing) -> None:
     else:
         log.warning("access_control", detail="API keys are off: every caller that reaches the service is let in",
                     **facts)
+
+
+def refusal_without_route(scope: Scope, access: DefineMiddleware | None) -> HTTPException | None:
+    """The guard's answer for a request no route took (a 404 or 405), so unknown paths look like known ones.
+
+    The guard runs after routing, so without this an anonymous caller got 404 for an unknown path and 401 for a
+    real one, and could map the routes.  With keys on, a caller the guard would refuse gets the same refusal
+    (rate limit and failed-authentication count included); a caller with a valid key still gets the 404 or 405.
+    """
+    if access is None or scope["type"] != "http":
+        return None
+    keys: KeyRing = access.kwargs["keys"]
+    path = scope.get("path", "")
+    if not keys.enabled or path in PROBE_PATHS or (path == METRICS_PATH and not access.kwargs["metrics_require_key"]):
+        return None
+    return _decide(scope, keys, access.kwargs["limiter"], access.kwargs["failures"])

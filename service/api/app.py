@@ -12,6 +12,7 @@ from litestar.openapi.spec import Contact, Tag
 from service import API_VERSION
 from service.api.access import access_middleware
 from service.api.compute import ComputePool
+from service.api.cors import cors_refusals_as_problems
 from service.api.headers import security_headers_middleware
 from service.api.observability import configure_logging, request_logging_middleware
 from service.api.metrics import metrics_middleware, metrics_route_handlers
@@ -41,8 +42,8 @@ API_DESCRIPTION = (
 )
 
 
-def _load_data(app: Litestar) -> None:
-    """Load and validate every data table before serving; a defect stops start-up."""
+def validate_data() -> None:
+    """Load and validate every data table and the libraries built from them; DataTableError on a defect."""
     load_tables()
     default_library()
     default_cords()
@@ -51,6 +52,11 @@ def _load_data(app: Litestar) -> None:
     default_plug_fuses()
     iec60364()
     nec()
+
+
+def _load_data(app: Litestar) -> None:
+    """Validate every data table before serving; a defect stops start-up."""
+    validate_data()
     app.state.ready = True
 
 
@@ -104,10 +110,11 @@ def create_app(settings: Settings | None = None) -> Litestar:
         on_shutdown=[lambda _: compute.shutdown()],
         openapi_config=openapi_config(),
         request_max_body_size=settings.max_body_bytes,
-        state=State({"ready": False, "settings": settings, "compute": compute}),
+        state=State({"ready": False, "settings": settings, "compute": compute, "access": access}),
         debug=False,
     )
     # Wrapped outside litestar's router so 404/405 answers are logged and carry a request id and the security
     # headers too.
-    app.asgi_handler = security_headers_middleware(request_logging_middleware(app.asgi_handler), settings)
+    handler = cors_refusals_as_problems(app.asgi_handler) if app.cors_config else app.asgi_handler
+    app.asgi_handler = security_headers_middleware(request_logging_middleware(handler), settings)
     return app

@@ -30,7 +30,9 @@ from litestar.status_codes import (
 
 from litestar.utils.scope.state import ScopeState
 
+from service.api.access import refusal_without_route
 from service.api.compute import ComputeDeadlineExceeded
+from service.api.duplicate_keys import DuplicateKey, refuse_duplicate_keys
 from service.core.errors import CalcError
 
 PROBLEM_MEDIA_TYPE = "application/problem+json"
@@ -192,6 +194,8 @@ def handle_validation(request: Request, exc: ValidationException) -> Response[Pr
 
 def handle_http(request: Request, exc: HTTPException) -> Response[Problem]:
     status = exc.status_code
+    if status in (404, 405) and (refusal := refusal_without_route(request.scope, request.app.state.get("access"))):
+        exc, status = refusal, refusal.status_code  # with keys on, no route is revealed to a caller without one
     if status == HTTP_400_BAD_REQUEST:  # a body strict JSON refused: say which field if it is NaN/Infinity
         if found := _non_finite_numbers(_received_body(request)):
             summary = "; ".join(f"{p.pointer or '(body)'}: {p.message}" for p in found)
@@ -202,6 +206,14 @@ def handle_http(request: Request, exc: HTTPException) -> Response[Problem]:
 
 def handle_request_invalid(request: Request, exc: RequestInvalid) -> Response[Problem]:
     return problem_response(HTTP_422_UNPROCESSABLE_ENTITY, str(exc), request, slug="invalid-value", errors=exc.problems)
+
+
+def handle_duplicate_key(request: Request, exc: DuplicateKey) -> Response[Problem]:
+    if not exc.location:
+        return problem_response(HTTP_400_BAD_REQUEST, "The body could not be checked for duplicate keys.", request)
+    where = pointer(*exc.location)
+    message = f"duplicate key: '{exc.location[-1]}' is given more than once in the same object; give it once"
+    return problem_response(HTTP_400_BAD_REQUEST, f"{where}: {message}", request, errors=[FieldProblem(where, message)])
 
 
 def handle_calc_error(request: Request, exc: CalcError) -> Response[Problem]:
@@ -225,6 +237,7 @@ EXCEPTION_HANDLERS: dict[Any, Any] = {
     ValidationException: handle_validation,
     HTTPException: handle_http,
     RequestInvalid: handle_request_invalid,
+    DuplicateKey: handle_duplicate_key,
     CalcError: handle_calc_error,
     ComputeDeadlineExceeded: handle_deadline,
     HTTP_500_INTERNAL_SERVER_ERROR: handle_unexpected,
@@ -348,5 +361,6 @@ async def body_guard(request: Request) -> None:
                                   extra=[{"key": "data", "message": str(exc), "source": "body"}]) from None
     except msgspec.DecodeError as exc:
         raise HTTPException(status_code=HTTP_400_BAD_REQUEST, detail=f"JSON is malformed: {exc}") from None
+    refuse_duplicate_keys(body)  # both decoders keep the last of a repeated key silently
     if normalised is not None:  # litestar's request.json() reads this instead of decoding the body again
         ScopeState.from_scope(request.scope).json = normalised

@@ -79,6 +79,30 @@ def test_probes_need_no_key_and_metrics_only_when_configured():
         assert c.get("/healthz").status_code == 200
 
 
+@pytest.mark.parametrize(("method", "path"), [("GET", "/v1/no-such-route"), ("POST", "/admin"),
+                                            ("DELETE", "/v1/conductors/resistance"), ("GET", "/v1/conductors/resistance")])
+def test_with_keys_on_unknown_routes_and_methods_answer_401_like_known_ones(method, path):
+    # RFC 9110 §15.5.2: without credentials the answer is 401 whatever the path, so routes cannot be mapped
+    with keyed() as c:
+        known = c.post("/v1/conductors/resistance", json=RESISTANCE)
+        unknown = c.request(method, path)
+        assert_problem(unknown, 401, "api-key-required")
+        assert unknown.headers["www-authenticate"] == known.headers["www-authenticate"]
+        assert unknown.json()["detail"] == known.json()["detail"]
+        assert_problem(c.request(method, path, headers=bearer(KEY[:-1])), 403, "api-key-refused")
+        assert c.request(method, path, headers=bearer(KEY)).status_code in (404, 405)  # a valid key sees the truth
+
+
+def test_without_keys_an_unknown_route_is_still_404():
+    with client() as c:
+        assert_problem(c.get("/v1/no-such-route"), 404, "not-found")
+
+
+def test_unknown_routes_spend_the_callers_rate_limit_too():
+    with keyed(rate_limit_requests=2, rate_limit_window_s=60) as c:
+        assert [c.get(f"/v1/guess-{n}").status_code for n in range(3)] == [401, 401, 429]
+
+
 def test_the_api_description_is_behind_the_key_too():
     with keyed() as c:
         assert_problem(c.get("/schema/openapi.json"), 401, "api-key-required")
@@ -108,6 +132,13 @@ def preflight(c: TestClient, origin: str):
         "access-control-request-headers": "content-type, authorization"})
 
 
+def test_a_preflight_asking_for_a_method_not_allowed_is_refused_as_problem_json():
+    with keyed(cors_allow_origins=ALLOWED_ORIGIN) as c:
+        refused = c.options("/v1/conductors/resistance", headers={
+            "origin": ALLOWED_ORIGIN, "access-control-request-method": "DELETE"})
+        assert "method" in assert_problem(refused, 400, "cors-preflight-refused")["detail"]
+
+
 def test_no_origin_is_allowed_by_default():
     with client() as c:
         assert "access-control-allow-origin" not in preflight(c, ALLOWED_ORIGIN).headers
@@ -123,6 +154,11 @@ def test_a_listed_origin_passes_the_preflight_and_others_are_refused():
         assert "authorization" in allowed.headers["access-control-allow-headers"].lower()
         refused = preflight(c, "https://evil.example.com")
         assert refused.status_code == 400 and "access-control-allow-origin" not in refused.headers
+        # RFC 9457: the refusal is problem+json like every other error, not litestar's text/plain
+        body = assert_problem(refused, 400, "cors-preflight-refused")
+        assert "origin" in body["detail"] and body["instance"] == "/v1/conductors/resistance"
+        assert refused.headers["content-length"] == str(len(refused.content))
+        assert refused.headers["x-content-type-options"] == "nosniff"
         answer = c.post("/v1/conductors/resistance", json=RESISTANCE,
                         headers={"origin": ALLOWED_ORIGIN, **bearer(KEY)})
         assert answer.status_code == 200 and answer.headers["access-control-allow-origin"] == ALLOWED_ORIGIN

@@ -169,3 +169,26 @@ def test_values_that_fit_only_by_coercion_are_refused(client, field, value):
 def test_an_integral_number_written_with_a_point_is_an_integer(client):
     # JSON Schema: 2.0 is an integer (the contract's conductor_class is an integer enum).
     assert client.post(RESISTANCE, json={"size": "2.5 mm^2", "length": "30 m", "conductor_class": 2.0}).status_code == 200
+
+
+@pytest.mark.parametrize(("raw", "where"), [
+    # RFC 8259 §4: names within an object SHOULD be unique; a repeated one is refused, not last-one-wins
+    (b'{"size": "2.5 mm^2", "length": "30 m", "length": "3 m"}', "/length"),
+    (b'{"size": "2.5 mm^2", "size": "2.5 mm^2", "length": "30 m"}', "/size"),
+])
+def test_a_key_given_twice_is_a_400_naming_it(client, raw, where):
+    found = problem(client.post(RESISTANCE, content=raw, headers={"content-type": "application/json"}), 400)
+    assert pointers(found) == [where] and "duplicate key" in found["detail"]
+
+
+def test_a_key_repeated_inside_a_nested_object_is_named_by_its_full_pointer(client):
+    # RFC 6901: the pointer of the repeated key, inside the second lead of the chain
+    socket = '{"loop_impedance": {"resistance": "0.45 ohm"}, "earth_loop_impedance": {"resistance": "0.7 ohm"}}'
+    lead = '{"length": "10 m", "size": "1.5 mm^2"}'
+    twice = '{"length": "10 m", "size": "1.5 mm^2", "length": "20 m"}'
+    raw = ('{"supply": ' + socket + ', "leads": [' + lead + ", " + twice + "]}").encode()
+    chains = "/v1/lead-chains/analyse"
+    assert client.post(chains, content=raw.replace(b', "length": "20 m"', b""),
+                       headers={"content-type": "application/json"}).status_code == 200
+    found = problem(client.post(chains, content=raw, headers={"content-type": "application/json"}), 400)
+    assert pointers(found) == ["/leads/1/length"]

@@ -2,14 +2,20 @@
 
 from __future__ import annotations
 
+import json
+import os
+import shutil
 import socket
+import subprocess
+import sys
 import time
+from pathlib import Path
 
 import httpx
 import pytest
 
 from service.api.keys import hash_key
-from tests.e2e.conftest import CLEAN_EXITS, start_server
+from tests.e2e.conftest import CLEAN_EXITS, ROOT, free_port, start_server
 
 KEY = "real-server-key-5b1e0c7d93"
 
@@ -242,3 +248,36 @@ def test_a_public_address_with_keys_off_does_not_start():
     else:
         server.stop()
         pytest.fail("the server served on 0.0.0.0 with keys off")
+
+
+def _source_tree_with(tmp_path: Path, edit, regenerate_manifest: bool) -> Path:
+    """A copy of the service's source tree with one table file edited (the real tree is never touched)."""
+    shutil.copytree(ROOT / "service", tmp_path / "service", ignore=shutil.ignore_patterns("__pycache__"))
+    table = tmp_path / "service" / "core" / "data" / "iec60228_table3_class5.json"
+    table.write_text(edit(table.read_text(encoding="utf-8")), encoding="utf-8")
+    if regenerate_manifest:
+        subprocess.run([sys.executable, "-m", "service.core.data.manifest", "--write"], cwd=tmp_path, check=True,
+                       capture_output=True, timeout=60)
+    return tmp_path
+
+
+@pytest.mark.parametrize(("edit", "regenerate_manifest", "named"), [
+    # issue 21, item 9: 7.98 ohm/km (IEC 60228:2004, Table 3, 2.5 mm2 class 5 plain copper) typed as 7.0
+    (lambda text: text.replace("7.98", "7.0"), False, "iec60228_table3_class5.json: differs from its SHA-256"),
+    # a shape defect the manifest was regenerated over: the loader's own checks still stop start-up
+    (lambda text: text.replace('"rows": [', '"rows": [["x"], ', 1), True,
+     "iec60228_table3_class5.json: row 0 has the wrong length"),
+], ids=["edited-value", "broken-shape"])
+def test_a_defective_table_stops_start_up_with_one_json_line_naming_the_file(tmp_path, edit, regenerate_manifest,
+                                                                             named):
+    tree = _source_tree_with(tmp_path, edit, regenerate_manifest)
+    env = {**os.environ, "AMPLINE_HOST": "127.0.0.1", "AMPLINE_PORT": str(free_port()), "AMPLINE_LOG_FORMAT": "json"}
+    done = subprocess.run([sys.executable, "-m", "service"], cwd=tree, env=env, capture_output=True, text=True,
+                          timeout=60)
+    assert done.returncode == 1
+    assert "Traceback" not in done.stdout + done.stderr and done.stderr == ""
+    lines = done.stdout.splitlines()
+    assert len(lines) == 1, done.stdout
+    record = json.loads(lines[0])
+    assert record["event"] == "startup_refused" and record["level"] == "critical"
+    assert named in record["detail"]

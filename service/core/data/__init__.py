@@ -2,9 +2,11 @@
 
 Each file names its standard, edition and table number and says whether every
 value was checked against the published table (``provenance``).  ``load_tables``
-validates the shape and physical sense of every file and raises DataTableError
-on the first defect, so a broken table stops the service at start-up instead of
-producing wrong answers later.
+first checks every file's bytes against its SHA-256 in ``MANIFEST.sha256`` (so
+a plausible but wrong edit is refused too), then validates the shape and
+physical sense of every file, and raises DataTableError on the first defect, so
+a broken table stops the service at start-up instead of producing wrong answers
+later.
 """
 
 from __future__ import annotations
@@ -14,8 +16,11 @@ import math
 from dataclasses import dataclass
 from functools import lru_cache
 from importlib import resources
+from importlib.resources.abc import Traversable
 from typing import Any
 
+from service.core.data.digests import (ManifestError, defects_summary, digest, manifest_defects, read_manifest,
+                                       table_files)
 from service.core.errors import DataTableError
 
 PROVENANCES = ("published", "from memory", "published, some rows from memory")
@@ -83,15 +88,26 @@ def _parse(file_name: str, raw: dict[str, Any]) -> DataTable:
 @lru_cache(maxsize=1)
 def load_tables() -> dict[str, DataTable]:
     """All packaged tables by table_id (cached: the files never change at run time)."""
+    return read_tables(resources.files(__name__))
+
+
+def read_tables(directory: Traversable) -> dict[str, DataTable]:
+    """The tables of a directory by table_id, each file's bytes first checked against the directory's manifest."""
+    try:
+        recorded = read_manifest(directory)
+    except ManifestError as exc:
+        raise DataTableError(str(exc)) from None
+    contents = {entry.name: entry.read_bytes() for entry in table_files(directory)}
+    defects = manifest_defects(recorded, {name: digest(data) for name, data in contents.items()})
+    if defects:
+        raise DataTableError(defects_summary(defects))
     tables: dict[str, DataTable] = {}
-    for entry in sorted(resources.files(__name__).iterdir(), key=lambda e: e.name):
-        if not entry.name.endswith(".json"):
-            continue
+    for name, data in contents.items():
         try:
-            raw = json.loads(entry.read_text(encoding="utf-8"))
-        except json.JSONDecodeError as exc:
-            raise DataTableError(f"{entry.name}: not valid JSON ({exc})") from None
-        table = _parse(entry.name, raw)
-        _check(table.table_id not in tables, entry.name, f"duplicate table_id '{table.table_id}'")
+            raw = json.loads(data.decode("utf-8"))
+        except (UnicodeDecodeError, json.JSONDecodeError) as exc:
+            raise DataTableError(f"{name}: not valid JSON ({exc})") from None
+        table = _parse(name, raw)
+        _check(table.table_id not in tables, name, f"duplicate table_id '{table.table_id}'")
         tables[table.table_id] = table
     return tables
