@@ -122,8 +122,15 @@ LET_THROUGH_ENERGY = QuantityKind("let-through energy I²t", "A^2*s", "25000 A^2
                                   exclusive_minimum=True, maximum=1.0e12)
 DISCONNECTION_TIME = QuantityKind("disconnection time", "s", "0.4 s", minimum=0.0, exclusive_minimum=True, maximum=5.0)
 
+MAX_QUANTITY_TEXT = 64
+"""The longest text a quantity or conductor size may be (the contract's maxLength): longer is refused unread."""
+
+# Every pattern below is matched against text already stripped and at most MAX_QUANTITY_TEXT long, and is built so
+# that it cannot backtrack: possessive quantifiers (``++``, ``*+``), no quantifier nested in another, no lazy
+# ``.*?`` followed by something that can also match spaces (the old ``(?P<unit>.*?)\s*$`` was quadratic: "1 a",
+# 40,000 spaces and "b" took seconds).  tests/property/test_units_linear_time.py measures that.
 _NUMBER_AND_UNIT = re.compile(
-    r"^\s*(?P<number>[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(?P<unit>.*?)\s*$"
+    r"(?P<number>[-+]?+(?:\d++(?:\.\d*+)?+|\.\d++)(?:[eE][-+]?+\d++)?+)\s*+(?P<unit>.*+)", re.DOTALL
 )
 # Spellings practitioners type that pint does not read as written.
 _UNIT_SPELLINGS = (
@@ -171,13 +178,21 @@ def _check_range(value: float, kind: QuantityKind) -> float:
     return value
 
 
-_NON_FINITE_WORD = re.compile(r"^\s*[-+]?(nan|inf|infinity)\b", re.IGNORECASE)
+_NON_FINITE_WORD = re.compile(r"[-+]?+(?:nan|inf(?:inity)?+)\b", re.IGNORECASE)
+
+
+def _bounded_text(text: str) -> str:
+    """``text`` stripped, refused when longer than MAX_QUANTITY_TEXT (before any pattern or pint reads it)."""
+    if len(stripped := text.strip()) > MAX_QUANTITY_TEXT:
+        raise QuantityError(f"is longer than {MAX_QUANTITY_TEXT} characters: give a number and a unit, e.g. '30 m'")
+    return stripped
 
 
 def _split(text: str) -> tuple[float, str]:
-    if _NON_FINITE_WORD.match(text):
+    """``text`` (stripped, bounded) as its number and the unit text after it."""
+    if _NON_FINITE_WORD.match(text):  # "nan", "inf", "infinity", "-Inf m": float() would read them
         raise QuantityError("must be a finite number (NaN and infinity are not accepted)")
-    match = _NUMBER_AND_UNIT.match(text)
+    match = _NUMBER_AND_UNIT.fullmatch(text)
     if match is None:
         raise QuantityError(f"'{text[:40]}' is not a number followed by a unit (e.g. '30 m')")
     return _check_finite(float(match["number"])), match["unit"]
@@ -226,9 +241,10 @@ def _parse(value: float | int | str, kind: QuantityKind) -> tuple[float, pint.Un
         raise QuantityError(f"expected a {kind.name}, got a boolean")
     if isinstance(value, (int, float)):
         return _check_range(_check_finite(float(value)), kind), None
+    value = _bounded_text(value)
     number, unit_text = _split(value)
     if not unit_text:  # "30": metres or feet?  A string says its unit; only a JSON number takes the documented one
-        raise QuantityError(f"'{value.strip()[:40]}' has no unit: give a unit, e.g. '{kind.example}', or a bare "
+        raise QuantityError(f"'{value[:40]}' has no unit: give a unit, e.g. '{kind.example}', or a bare "
                             f"number (meaning {_UNIT_WORDS.get(kind.unit, kind.unit)})")
     if kind.difference:  # a rise in degrees Celsius or Fahrenheit is a difference, never a point on the scale
         unit_text = _OFFSET_AS_DIFFERENCE.sub(lambda m: "delta_" + m[1], _units_spelling(unit_text))
@@ -238,7 +254,7 @@ def _parse(value: float | int | str, kind: QuantityKind) -> tuple[float, pint.Un
         converted = _REGISTRY.Quantity(number, unit).to(target).magnitude
     except pint.DimensionalityError:
         raise QuantityError(
-            f"'{unit_text}' is not a unit of {kind.name} (expected something like '{kind.example}')"
+            f"'{unit_text[:40]}' is not a unit of {kind.name} (expected something like '{kind.example}')"
         ) from None
     except Exception:  # noqa: BLE001 - pint's expression parser, fed arbitrary client text, raises assorted
         # types besides its own (AssertionError, tokenize.TokenError, KeyError...): each means "not a unit".
@@ -265,16 +281,17 @@ def parse_power(value: float | int | str, kind: QuantityKind) -> Power:
     return Power(number, "active" if unit is None else _power_kind(unit))
 
 
-_AWG = re.compile(r"^\s*(?:(?P<gauge>\d{1,2}|[1-4]/0)\s*AWG|AWG\s*(?P<gauge2>\d{1,2}|[1-4]/0))\s*$", re.IGNORECASE)
-_KCMIL = re.compile(r"^\s*(?P<kcmil>\d+(?:\.\d+)?)\s*(?:kcmil|MCM)\s*$", re.IGNORECASE)
+_AWG = re.compile(r"(?>(?P<gauge>[1-4]/0|\d{1,2}+)\s*+AWG|AWG\s*+(?P<gauge2>[1-4]/0|\d{1,2}+))", re.IGNORECASE)
+_KCMIL = re.compile(r"(?P<kcmil>\d++(?:\.\d++)?+)\s*+(?:kcmil|MCM)", re.IGNORECASE)
 _AREA = QuantityKind("conductor cross-sectional area", "m^2", "2.5 mm^2", minimum=0.0, exclusive_minimum=True, maximum=1.0e-2)
 
 
 def parse_conductor_size(value: float | int | str) -> SizeSpec:
     """Parse a conductor size: an area ("2.5 mm^2", or a number in m^2), an AWG gauge or kcmil."""
     if isinstance(value, str):
-        if match := _AWG.match(value):
+        value = _bounded_text(value)
+        if match := _AWG.fullmatch(value):
             return SizeSpec.awg(match["gauge"] or match["gauge2"])
-        if match := _KCMIL.match(value):
+        if match := _KCMIL.fullmatch(value):
             return SizeSpec.kcmil(float(match["kcmil"]))
     return SizeSpec.metric(parse_quantity(value, _AREA))
