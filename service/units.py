@@ -20,6 +20,7 @@ from functools import lru_cache
 from typing import Literal
 
 import pint
+from pint.util import string_preprocessor
 
 from service.core.conductors import SizeSpec
 
@@ -132,10 +133,12 @@ MAX_QUANTITY_TEXT = 64
 _NUMBER_AND_UNIT = re.compile(
     r"(?P<number>[-+]?+(?:\d++(?:\.\d*+)?+|\.\d++)(?:[eE][-+]?+\d++)?+)\s*+(?P<unit>.*+)", re.DOTALL
 )
+_SUPERSCRIPT_DIGITS = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹⁻⁺", "0123456789-+")
 # Spellings practitioners type that pint does not read as written.
 _UNIT_SPELLINGS = (
     (re.compile(r"\b(mm|cm|m|in|ft)2\b"), r"\1^2"),
-    ("²", "^2"),
+    # superscript exponents ("m²", "m³", "m⁻¹") as ^-exponents, which the power check below then reads
+    (re.compile("[⁻⁺]?+[⁰¹²³⁴⁵⁶⁷⁸⁹]++"), lambda m: "^" + m[0].translate(_SUPERSCRIPT_DIGITS)),
     ("Ω", "ohm"),
     ("Ohm", "ohm"),
     ("°C", "degC"),
@@ -144,6 +147,14 @@ _UNIT_SPELLINGS = (
 
 
 _OFFSET_AS_DIFFERENCE = re.compile(r"\b(degC|degF)\b")
+# pint evaluates the numbers in a unit expression exactly: "9**9**9" is 9 to the power 387,420,489, which froze the
+# process.  An exponent must be a plain number of at most two digits (and two decimals), not raised again, and
+# never applied to a parenthesised group: "m^2", "m**-1", "A^2*s" pass; "9**9**9", "(9**99)**99", "m^(1/2)" do not.
+_UNSAFE_POWER = re.compile(
+    r"\)\s*+(?:\*\*|\^)"
+    r"|(?:\*\*|\^)\s*+(?![-+]?+\d{1,2}+(?:\.\d{1,2}+)?+(?![\d.eE]))"
+    r"|(?:\*\*|\^)\s*+[-+]?+[\d.]++\s*+(?:\*\*|\^)"
+)
 
 
 def _units_spelling(text: str) -> str:
@@ -246,6 +257,9 @@ def _parse(value: float | int | str, kind: QuantityKind) -> tuple[float, pint.Un
     if not unit_text:  # "30": metres or feet?  A string says its unit; only a JSON number takes the documented one
         raise QuantityError(f"'{value[:40]}' has no unit: give a unit, e.g. '{kind.example}', or a bare "
                             f"number (meaning {_UNIT_WORDS.get(kind.unit, kind.unit)})")
+    if _UNSAFE_POWER.search(string_preprocessor(_units_spelling(unit_text))):  # the text as pint evaluates it
+        raise QuantityError(f"'{unit_text[:40]}' is not a unit this service reads: an exponent must be a plain "
+                            "number such as 2 or -1 (\"mm^2\", \"m**-1\")")
     if kind.difference:  # a rise in degrees Celsius or Fahrenheit is a difference, never a point on the scale
         unit_text = _OFFSET_AS_DIFFERENCE.sub(lambda m: "delta_" + m[1], _units_spelling(unit_text))
     try:

@@ -47,6 +47,7 @@ PATTERN_USES = {
     "_KCMIL": lambda p, s: p.fullmatch(s),
     "_OFFSET_AS_DIFFERENCE": lambda p, s: p.sub("x", s),
     "_UNIT_SPELLINGS": lambda p, s: units._units_spelling(s),  # noqa: SLF001 - the patterns as the parser applies them
+    "_UNSAFE_POWER": lambda p, s: p.search(s),
 }
 
 
@@ -56,7 +57,7 @@ def test_every_pattern_of_the_parser_is_measured():
     assert patterns == set(PATTERN_USES)
 
 
-ALPHABET = st.sampled_from(list("1 a.b0e-+/AWGkcmilMm2°C\t"))
+ALPHABET = st.sampled_from(list("1 a.b0e-+/AWGkcmilMm2°C\t*^()²⁹⁻"))
 PIECE = st.text(ALPHABET, min_size=0, max_size=6)
 PAD = st.text(ALPHABET, min_size=1, max_size=3)
 SHORT, LONG = 64, 64 * 16  # 16 times the length: linear growth is 16x, quadratic 256x
@@ -109,3 +110,42 @@ def test_whitespace_around_a_value_is_stripped_before_the_cap():
     assert parse_conductor_size("\t12 AWG  ") == parse_conductor_size("12 AWG")
     assert parse_conductor_size(" 250 kcmil ") == parse_conductor_size("250 kcmil")
     assert parse_quantity(" " * 100 + "30 m" + " " * 100, LENGTH) == 30.0  # the cap counts the value, not padding
+
+
+# pint evaluates the numbers of a unit expression exactly: "9**9**9" (9 to the power 387,420,489) froze the process
+# for good, within 64 characters.  Found while fixing issue 21, item 1.  # common practice (Python's exact integers)
+POWER_TOWERS = ["1 9**9**9", "1 9^9^9", "1 m*9**9**9", "1 9⁹⁹⁹⁹⁹⁹⁹⁹⁹", "1 9**⁹⁹⁹⁹⁹⁹", "1 ((9**99)**99)**99",
+                "1 9**9,9**9,9", "1 9^1e9", "1 m^(1/2)", "1 m**999"]
+
+
+def test_power_towers_are_refused_before_pint_evaluates_them():
+    for text in POWER_TOWERS:
+        try:
+            parse_quantity(text, LENGTH)
+        except QuantityError as exc:
+            assert "an exponent must be a plain number" in exc.message, (text, exc.message)
+        else:
+            raise AssertionError(f"{text!r} was accepted")
+
+
+def test_plain_exponents_still_parse():
+    # IEC 60228:2004 sizes are written in mm²; the rest are plain SI unit algebra (common practice)
+    assert parse_conductor_size("2.5 mm²") == parse_conductor_size("2.5 mm^2") == parse_conductor_size("2.5 mm2")
+    assert parse_quantity("1 m³/m²", LENGTH) == 1.0
+    assert parse_quantity("1 m⁻¹*m²", LENGTH) == 1.0
+    assert parse_quantity("1 m**2 / m", LENGTH) == 1.0
+    assert parse_quantity("1 m^1.5/m^0.5", LENGTH) == 1.0
+
+
+TOKENS = st.sampled_from(["9", "99", "**", "^", "⁹", "⁹⁹", "(", ")", ",", " ", "m", "e9", "-", "*", "/", ".5", "squared"])
+
+
+@settings(max_examples=300, deadline=None, derandomize=True)
+@given(st.lists(TOKENS, max_size=16))
+def test_any_power_expression_is_answered(tokens):
+    # a regression here hangs rather than fails: Python cannot interrupt an exact power in C
+    text = "1 " + "".join(tokens)
+    try:
+        parse_quantity(text, LENGTH)
+    except QuantityError:
+        pass
