@@ -20,6 +20,7 @@ from functools import lru_cache
 from typing import Literal
 
 import pint
+from pint.util import string_preprocessor
 
 from service.core.conductors import SizeSpec
 
@@ -122,13 +123,22 @@ LET_THROUGH_ENERGY = QuantityKind("let-through energy I²t", "A^2*s", "25000 A^2
                                   exclusive_minimum=True, maximum=1.0e12)
 DISCONNECTION_TIME = QuantityKind("disconnection time", "s", "0.4 s", minimum=0.0, exclusive_minimum=True, maximum=5.0)
 
+MAX_QUANTITY_TEXT = 64
+"""The longest text a quantity or conductor size may be (the contract's maxLength): longer is refused unread."""
+
+# Every pattern below is matched against text already stripped and at most MAX_QUANTITY_TEXT long, and is built so
+# that it cannot backtrack: possessive quantifiers (``++``, ``*+``), no quantifier nested in another, no lazy
+# ``.*?`` followed by something that can also match spaces (the old ``(?P<unit>.*?)\s*$`` was quadratic: "1 a",
+# 40,000 spaces and "b" took seconds).  tests/property/test_units_linear_time.py measures that.
 _NUMBER_AND_UNIT = re.compile(
-    r"^\s*(?P<number>[-+]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][-+]?\d+)?)\s*(?P<unit>.*?)\s*$"
+    r"(?P<number>[-+]?+(?:\d++(?:\.\d*+)?+|\.\d++)(?:[eE][-+]?+\d++)?+)\s*+(?P<unit>.*+)", re.DOTALL
 )
+_SUPERSCRIPT_DIGITS = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹⁻⁺", "0123456789-+")
 # Spellings practitioners type that pint does not read as written.
 _UNIT_SPELLINGS = (
     (re.compile(r"\b(mm|cm|m|in|ft)2\b"), r"\1^2"),
-    ("²", "^2"),
+    # superscript exponents ("m²", "m³", "m⁻¹") as ^-exponents, which the power check below then reads
+    (re.compile("[⁻⁺]?+[⁰¹²³⁴⁵⁶⁷⁸⁹]++"), lambda m: "^" + m[0].translate(_SUPERSCRIPT_DIGITS)),
     ("Ω", "ohm"),
     ("Ohm", "ohm"),
     ("°C", "degC"),
@@ -137,6 +147,14 @@ _UNIT_SPELLINGS = (
 
 
 _OFFSET_AS_DIFFERENCE = re.compile(r"\b(degC|degF)\b")
+# pint evaluates the numbers in a unit expression exactly: "9**9**9" is 9 to the power 387,420,489, which froze the
+# process.  An exponent must be a plain number of at most two digits (and two decimals), not raised again, and
+# never applied to a parenthesised group: "m^2", "m**-1", "A^2*s" pass; "9**9**9", "(9**99)**99", "m^(1/2)" do not.
+_UNSAFE_POWER = re.compile(
+    r"\)\s*+(?:\*\*|\^)"
+    r"|(?:\*\*|\^)\s*+(?![-+]?+\d{1,2}+(?:\.\d{1,2}+)?+(?![\d.eE]))"
+    r"|(?:\*\*|\^)\s*+[-+]?+[\d.]++\s*+(?:\*\*|\^)"
+)
 
 
 def _units_spelling(text: str) -> str:
@@ -171,13 +189,21 @@ def _check_range(value: float, kind: QuantityKind) -> float:
     return value
 
 
-_NON_FINITE_WORD = re.compile(r"^\s*[-+]?(nan|inf|infinity)\b", re.IGNORECASE)
+_NON_FINITE_WORD = re.compile(r"[-+]?+(?:nan|inf(?:inity)?+)\b", re.IGNORECASE)
+
+
+def _bounded_text(text: str) -> str:
+    """``text`` stripped, refused when longer than MAX_QUANTITY_TEXT (before any pattern or pint reads it)."""
+    if len(stripped := text.strip()) > MAX_QUANTITY_TEXT:
+        raise QuantityError(f"is longer than {MAX_QUANTITY_TEXT} characters: give a number and a unit, e.g. '30 m'")
+    return stripped
 
 
 def _split(text: str) -> tuple[float, str]:
-    if _NON_FINITE_WORD.match(text):
+    """``text`` (stripped, bounded) as its number and the unit text after it."""
+    if _NON_FINITE_WORD.match(text):  # "nan", "inf", "infinity", "-Inf m": float() would read them
         raise QuantityError("must be a finite number (NaN and infinity are not accepted)")
-    match = _NUMBER_AND_UNIT.match(text)
+    match = _NUMBER_AND_UNIT.fullmatch(text)
     if match is None:
         raise QuantityError(f"'{text[:40]}' is not a number followed by a unit (e.g. '30 m')")
     return _check_finite(float(match["number"])), match["unit"]
@@ -226,10 +252,14 @@ def _parse(value: float | int | str, kind: QuantityKind) -> tuple[float, pint.Un
         raise QuantityError(f"expected a {kind.name}, got a boolean")
     if isinstance(value, (int, float)):
         return _check_range(_check_finite(float(value)), kind), None
+    value = _bounded_text(value)
     number, unit_text = _split(value)
     if not unit_text:  # "30": metres or feet?  A string says its unit; only a JSON number takes the documented one
-        raise QuantityError(f"'{value.strip()[:40]}' has no unit: give a unit, e.g. '{kind.example}', or a bare "
+        raise QuantityError(f"'{value[:40]}' has no unit: give a unit, e.g. '{kind.example}', or a bare "
                             f"number (meaning {_UNIT_WORDS.get(kind.unit, kind.unit)})")
+    if _UNSAFE_POWER.search(string_preprocessor(_units_spelling(unit_text))):  # the text as pint evaluates it
+        raise QuantityError(f"'{unit_text[:40]}' is not a unit this service reads: an exponent must be a plain "
+                            "number such as 2 or -1 (\"mm^2\", \"m**-1\")")
     if kind.difference:  # a rise in degrees Celsius or Fahrenheit is a difference, never a point on the scale
         unit_text = _OFFSET_AS_DIFFERENCE.sub(lambda m: "delta_" + m[1], _units_spelling(unit_text))
     try:
@@ -238,7 +268,7 @@ def _parse(value: float | int | str, kind: QuantityKind) -> tuple[float, pint.Un
         converted = _REGISTRY.Quantity(number, unit).to(target).magnitude
     except pint.DimensionalityError:
         raise QuantityError(
-            f"'{unit_text}' is not a unit of {kind.name} (expected something like '{kind.example}')"
+            f"'{unit_text[:40]}' is not a unit of {kind.name} (expected something like '{kind.example}')"
         ) from None
     except Exception:  # noqa: BLE001 - pint's expression parser, fed arbitrary client text, raises assorted
         # types besides its own (AssertionError, tokenize.TokenError, KeyError...): each means "not a unit".
@@ -265,16 +295,17 @@ def parse_power(value: float | int | str, kind: QuantityKind) -> Power:
     return Power(number, "active" if unit is None else _power_kind(unit))
 
 
-_AWG = re.compile(r"^\s*(?:(?P<gauge>\d{1,2}|[1-4]/0)\s*AWG|AWG\s*(?P<gauge2>\d{1,2}|[1-4]/0))\s*$", re.IGNORECASE)
-_KCMIL = re.compile(r"^\s*(?P<kcmil>\d+(?:\.\d+)?)\s*(?:kcmil|MCM)\s*$", re.IGNORECASE)
+_AWG = re.compile(r"(?>(?P<gauge>[1-4]/0|\d{1,2}+)\s*+AWG|AWG\s*+(?P<gauge2>[1-4]/0|\d{1,2}+))", re.IGNORECASE)
+_KCMIL = re.compile(r"(?P<kcmil>\d++(?:\.\d++)?+)\s*+(?:kcmil|MCM)", re.IGNORECASE)
 _AREA = QuantityKind("conductor cross-sectional area", "m^2", "2.5 mm^2", minimum=0.0, exclusive_minimum=True, maximum=1.0e-2)
 
 
 def parse_conductor_size(value: float | int | str) -> SizeSpec:
     """Parse a conductor size: an area ("2.5 mm^2", or a number in m^2), an AWG gauge or kcmil."""
     if isinstance(value, str):
-        if match := _AWG.match(value):
+        value = _bounded_text(value)
+        if match := _AWG.fullmatch(value):
             return SizeSpec.awg(match["gauge"] or match["gauge2"])
-        if match := _KCMIL.match(value):
+        if match := _KCMIL.fullmatch(value):
             return SizeSpec.kcmil(float(match["kcmil"]))
     return SizeSpec.metric(parse_quantity(value, _AREA))

@@ -68,16 +68,39 @@ _CONSTRAINTS = ("minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum", "m
                 "pattern", "minItems", "maxItems")
 
 
-def _copy_union_constraints(ours: dict[str, Any], msgspec_schema: dict[str, Any]) -> None:
-    """litestar drops the bounds of union members (number | string); msgspec's own schema keeps them."""
-    for name, prop in ours.get("properties", {}).items():
-        theirs = msgspec_schema.get("properties", {}).get(name, {})
-        branches, their_branches = prop.get("oneOf"), theirs.get("anyOf")
-        if not branches or not their_branches or len(branches) != len(their_branches):
+def _leaves(schema: dict[str, Any]) -> list[dict[str, Any]]:
+    """The member schemas of a union, nested unions flattened (an optional quantity is ((number | string) | null))."""
+    branches = schema.get("oneOf") or schema.get("anyOf")
+    if not branches:
+        return [schema]
+    return [leaf for branch in branches for leaf in _leaves(branch)]
+
+
+def _type_key(schema: dict[str, Any]) -> Any:
+    kind = schema.get("type")
+    return tuple(kind) if isinstance(kind, list) else kind
+
+
+def _copy_constraints(ours: dict[str, Any], theirs: dict[str, Any]) -> None:
+    """Copy the bounds of each member of ``theirs`` onto the member of ``ours`` of the same type (and list items)."""
+    their_leaves: dict[Any, list[dict[str, Any]]] = {}
+    for leaf in _leaves(theirs):
+        their_leaves.setdefault(_type_key(leaf), []).append(leaf)
+    for leaf in _leaves(ours):
+        matches = their_leaves.get(_type_key(leaf), [])
+        if len(matches) != 1:  # no member, or two of one type: nothing to tell them apart by
             continue
-        for branch, their_branch in zip(branches, their_branches):
-            if branch.get("type") == their_branch.get("type"):
-                branch.update({k: v for k, v in their_branch.items() if k in _CONSTRAINTS})
+        leaf.update({k: v for k, v in matches[0].items() if k in _CONSTRAINTS and k not in leaf})
+        if isinstance(leaf.get("items"), dict) and isinstance(matches[0].get("items"), dict):
+            _copy_constraints(leaf["items"], matches[0]["items"])
+
+
+def _copy_union_constraints(ours: dict[str, Any], msgspec_schema: dict[str, Any]) -> None:
+    """litestar drops the bounds of union members (number | string) and of list items; msgspec's schema keeps them."""
+    for name, prop in ours.get("properties", {}).items():
+        theirs = msgspec_schema.get("properties", {}).get(name)
+        if theirs is not None and "$ref" not in theirs:
+            _copy_constraints(prop, theirs)
 
 
 EXAMPLE_DIGITS = 6
@@ -171,6 +194,15 @@ def _add_links(document: dict[str, Any]) -> None:
                         response["links"] = links
 
 
+def _msgspec_component(components: dict[str, Any], name: str) -> dict[str, Any]:
+    """msgspec's schema of litestar's component ``name``: two Structs of one name are ``chains_SupplyIn`` there and
+    ``service.api.schemas.v1.chains.SupplyIn`` in msgspec's components."""
+    if name in components:
+        return components[name]
+    qualified = [k for k in components if k.endswith("." + name.replace("_", "."))]
+    return components[qualified[0]] if len(qualified) == 1 else {}
+
+
 def finish_contract(document: dict[str, Any]) -> dict[str, Any]:
     """Return a copy of the generated document with request structs closed to unknown fields."""
     finished = msgspec.json.decode(msgspec.json.encode(document))  # plain builtins, a deep copy
@@ -184,7 +216,7 @@ def finish_contract(document: dict[str, Any]) -> dict[str, Any]:
         struct_name = name if name in strict else name.split("_")[-1]
         if struct_name in strict:
             schema["additionalProperties"] = False
-            _copy_union_constraints(schema, msgspec_components.get(struct_name, {}))
+            _copy_union_constraints(schema, _msgspec_component(msgspec_components, name))
     return finished
 
 

@@ -34,9 +34,25 @@ _SHARED_PROCESSORS = (
 )
 
 
+MAX_LOGGED_TRACEBACK = 4096
+"""Characters of a logged traceback kept: its start (where it entered our code) and its end (what was raised).
+A RecursionError's traceback ran to 182 KB a request, which let a 1 KB body write a log line of 182 KB."""
+_TRACEBACK_HEAD = 1024
+
+
+def cap_traceback(_logger: object, _method: str, event_dict: dict) -> dict:
+    """Shorten the formatted ``exception`` of a log line to MAX_LOGGED_TRACEBACK characters, saying so."""
+    text = event_dict.get("exception")
+    if isinstance(text, str) and len(text) > MAX_LOGGED_TRACEBACK:
+        tail = MAX_LOGGED_TRACEBACK - _TRACEBACK_HEAD
+        event_dict["exception"] = (f"{text[:_TRACEBACK_HEAD]}\n[... {len(text) - MAX_LOGGED_TRACEBACK} characters "
+                                   f"of traceback left out ...]\n{text[-tail:]}")
+    return event_dict
+
+
 def configure_logging(settings: Settings) -> None:
     structlog.configure(
-        processors=[*_SHARED_PROCESSORS, structlog.processors.format_exc_info, _renderer(settings)],
+        processors=[*_SHARED_PROCESSORS, structlog.processors.format_exc_info, cap_traceback, _renderer(settings)],
         wrapper_class=structlog.make_filtering_bound_logger(getattr(logging, settings.log_level.upper())),
         logger_factory=structlog.PrintLoggerFactory(sys.stdout),
         cache_logger_on_first_use=False,

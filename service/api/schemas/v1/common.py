@@ -13,7 +13,7 @@ from typing import Annotated, Literal
 import msgspec
 from msgspec import Meta
 
-from service.units import QuantityKind
+from service.units import MAX_QUANTITY_TEXT, QuantityKind
 
 
 class Strict(msgspec.Struct, forbid_unknown_fields=True, frozen=True, kw_only=True):
@@ -34,7 +34,7 @@ def _number_bounds(kind: QuantityKind) -> Meta:
     return Meta(**bounds)
 
 
-QUANTITY_TEXT = Meta(min_length=1, max_length=64)
+QUANTITY_TEXT = Meta(min_length=1, max_length=MAX_QUANTITY_TEXT)
 """A number and a unit fit in 64 characters; longer text is refused before parsing."""
 
 
@@ -51,7 +51,7 @@ def quantity(kind: QuantityKind, *examples: str | float) -> object:
 
 
 ConductorSizeField = Annotated[
-    float | str,
+    float | Annotated[str, QUANTITY_TEXT],
     Meta(
         description=(
             "Conductor size: an area as a string with a unit (\"2.5 mm^2\", \"2.5 mm2\") or a bare number in m^2; "

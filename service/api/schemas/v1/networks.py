@@ -248,7 +248,7 @@ class NetworkSolveRequest(Strict):
     reference_node: Annotated[str, Meta(min_length=1, max_length=100, description=(
         "The 0 V node every voltage is measured from (often the neutral or the negative pole)."),
         examples=["N", "0"])] = "0"
-    nodes: Annotated[list[str] | None, Meta(description=(
+    nodes: Annotated[list[NodeName] | None, Meta(description=(
         "Optional list of the network's node names. When given, an element terminal naming any other node (a "
         "typing slip) is refused with 422; integer labels of array elements are not checked against it."))] = None
     options: SolveOptionsIn = msgspec.field(default_factory=SolveOptionsIn)
