@@ -49,7 +49,7 @@ def _loop(reader: FieldReader, loop: s.LoopImpedanceIn | None, current, u0: floa
     return None
 
 
-def _supply(reader: FieldReader, supply: s.SupplyIn) -> Supply:
+def _supply(reader: FieldReader, supply: s.ChainSupplyIn) -> Supply:
     u0 = reader.quantity(supply.nominal_voltage, VOLTAGE, "supply", "nominal_voltage")
     line_neutral = _loop(reader, supply.loop_impedance, supply.prospective_fault_current, u0,
                          "loop_impedance", "prospective_fault_current")
@@ -86,7 +86,7 @@ def _supply(reader: FieldReader, supply: s.SupplyIn) -> Supply:
     )
 
 
-def _system(reader: FieldReader, supply: s.SupplyIn, u0: float) -> str:
+def _system(reader: FieldReader, supply: s.ChainSupplyIn, u0: float) -> str:
     """The supply kind; an RLV supply is at most 110 V between lines (BS 7671:2018 411.8.1.2, from memory)."""
     if is_rlv(supply.system) and u0 == u0 and u0 > RLV_MAX_LINE_VOLTAGE_V * (1 + 1e-9):
         reader.add(f"a reduced-low-voltage supply ({supply.system}) is at most {RLV_MAX_LINE_VOLTAGE_V:g} V between "

@@ -195,8 +195,9 @@ def _add_links(document: dict[str, Any]) -> None:
 
 
 def _msgspec_component(components: dict[str, Any], name: str) -> dict[str, Any]:
-    """msgspec's schema of litestar's component ``name``: two Structs of one name are ``chains_SupplyIn`` there and
-    ``service.api.schemas.v1.chains.SupplyIn`` in msgspec's components."""
+    """msgspec's schema of litestar's component ``name``: two Structs of one name would be ``chains_X`` there and
+    ``service.api.schemas.v1.chains.X`` in msgspec's components (every Struct has a name of its own today, and a
+    test keeps titles unique)."""
     if name in components:
         return components[name]
     qualified = [k for k in components if k.endswith("." + name.replace("_", "."))]

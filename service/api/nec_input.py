@@ -52,7 +52,7 @@ def _load_voltage(reader: FieldReader, value: float | str | None, system: str | 
     return v
 
 
-def _load(reader: FieldReader, load: s.LoadIn, system: str | None) -> NecLoad:
+def _load(reader: FieldReader, load: s.SizingLoadIn, system: str | None) -> NecLoad:
     if (load.design_current is None) == (load.power is None):
         reader.add("give either design_current or power (with power_factor), not both and not neither", "load")
     if load.phases is not None and system in SYSTEMS and load.phases != SYSTEMS[system].phases:

@@ -259,7 +259,7 @@ def _cable_run(c: _Converter, e: s.CableRunIn, k: int):
     return m.CableRun(e.id, e.a, e.b, length, r_per_m, x_per_m, e.go_and_return)
 
 
-def _load(c: _Converter, e: s.LoadIn, k: int):
+def _load(c: _Converter, e: s.NetworkLoadIn, k: int):
     """A load from P or S, with power_factor or Q: Q = P tan φ, S² = P² + Q² (power triangle, common practice)."""
     given = c.reader.power(e.rated_power, AC_POWER, "elements", k, "rated_power")
     v = c.q(e.rated_voltage, VOLTAGE, k, "rated_voltage")
@@ -347,7 +347,7 @@ def _resistor_array(c: _Converter, e: s.ResistorArrayIn, k: int):
 _CONVERT: dict[type, Callable] = {
     s.ResistorIn: _resistor, s.ImpedanceIn: _impedance, s.InductorIn: _inductor, s.CapacitorIn: _capacitor,
     s.VoltageSourceIn: _voltage_source, s.CurrentSourceIn: _current_source, s.SwitchIn: _switch,
-    s.CableRunIn: _cable_run, s.LoadIn: _load, s.ThreePhaseSupplyIn: _three_phase,
+    s.CableRunIn: _cable_run, s.NetworkLoadIn: _load, s.ThreePhaseSupplyIn: _three_phase,
     s.ResistorArrayIn: _resistor_array,
 }
 _TERMINALS: dict[type, tuple[str, ...]] = {

@@ -42,7 +42,7 @@ def _optional(reader: FieldReader, value, kind, *path):
     return None if value is None else reader.quantity(value, kind, *path)
 
 
-def load_power(reader: FieldReader, load: s.LoadIn) -> tuple[float | None, float | None]:
+def load_power(reader: FieldReader, load: s.SizingLoadIn) -> tuple[float | None, float | None]:
     """load.power as (active P in W, apparent S in VA), one of them None; reactive power alone is refused."""
     if load.power is None:
         return None, None
@@ -59,7 +59,7 @@ def load_power(reader: FieldReader, load: s.LoadIn) -> tuple[float | None, float
     return power.value, None
 
 
-def _load(reader: FieldReader, load: s.LoadIn) -> LoadSpec:
+def _load(reader: FieldReader, load: s.SizingLoadIn) -> LoadSpec:
     if (load.design_current is None) == (load.power is None):
         reader.add("give either design_current or power (with power_factor), not both and not neither", "load")
     power_w, apparent_va = load_power(reader, load)
@@ -119,20 +119,20 @@ def _protection(reader: FieldReader, p: s.ProtectionIn) -> ProtectionSpec:
     )
 
 
-def _energy_class(reader: FieldReader, device: s.DeviceIn):
+def _energy_class(reader: FieldReader, device: s.SizingDeviceIn):
     if device.energy_class is not None and (device.type or "B") not in ("B", "C"):
         reader.add("energy-limiting classes (EN 60898-1 Annex ZA) are given for type B and C circuit-breakers only",
                    "protection", "device", "energy_class")
     return device.energy_class
 
 
-def _fuse_system(reader: FieldReader, device: s.DeviceIn) -> str:
+def _fuse_system(reader: FieldReader, device: s.SizingDeviceIn) -> str:
     if device.fuse_system is not None and device.type != "gG":
         reader.add("fuse_system applies to gG fuse-links only (device.type gG)", "protection", "device", "fuse_system")
     return device.fuse_system or "iec60269_1"
 
 
-def _supply(reader: FieldReader, sup: s.SupplyIn) -> SupplySpec:
+def _supply(reader: FieldReader, sup: s.SizingSupplyIn) -> SupplySpec:
     if sup.ze is None:
         reader.add("required for regime iec60364: the external earth-fault loop impedance", "supply", "ze")
     earthing = sup.earthing or "TN-C-S"

@@ -82,3 +82,10 @@ def test_request_structs_are_closed_to_unknown_fields(document):
 
 def test_committed_file_is_valid_yaml_with_openapi_3_1():
     assert yaml.safe_load(CONTRACT_PATH.read_text(encoding="utf-8"))["openapi"].startswith("3.1")
+
+
+def test_no_two_schemas_share_a_title(document):
+    # Client generators name models by title (openapi-python-client drops operations on duplicates, common practice).
+    titles = [s.get("title") for s in document["components"]["schemas"].values() if isinstance(s, dict) and s.get("title")]
+    assert len(titles) > 50
+    assert sorted({t for t in titles if titles.count(t) > 1}) == []

@@ -120,10 +120,10 @@ def _line_neutral(ln) -> s.LineNeutralFaultOut | None:
         disconnecting_basis=ln.operating.basis, clearing_time_s=ln.clearing_time_s, disconnects=ln.complies)
 
 
-def _totals(t) -> s.TotalsOut | None:
+def _totals(t) -> s.ChainTotalsOut | None:
     if t is None:
         return None
-    return s.TotalsOut(
+    return s.ChainTotalsOut(
         socket_voltage_v=t.socket_voltage_v, lowest_appliance_voltage_v=t.lowest_appliance_voltage_v,
         total_drop_v=t.total_drop_v, total_drop_pct=t.total_drop_pct, upstream_drop_pct=t.upstream_drop_pct,
         drop_from_origin_pct=t.drop_from_origin_pct, drop_limit_pct=t.drop_limit_pct,
@@ -178,10 +178,10 @@ def analyse(req: s.LeadChainRequest) -> s.LeadChainResult:
     return result_of(analyse_chain(to_chain(req)))
 
 
-_SOCKET = s.SupplyIn(
+_SOCKET = s.ChainSupplyIn(
     loop_impedance=s.LoopImpedanceIn(resistance="0.42 ohm", reactance="0.03 ohm"),
     earth_loop_impedance=s.LoopImpedanceIn(resistance="0.61 ohm", reactance="0.03 ohm"),
-    earthing="TN-C-S", device=s.DeviceIn(type="B", rated_current="16 A"), rcd=s.RcdIn(rated_residual_current="30 mA"),
+    earthing="TN-C-S", device=s.ChainDeviceIn(type="B", rated_current="16 A"), rcd=s.ChainRcdIn(rated_residual_current="30 mA"),
     ambient_temperature="18 degC",
 )
 _EXAMPLES = {
@@ -193,11 +193,11 @@ _EXAMPLES = {
                         water_mass="15 kg", temperature_rise="85 K"), hours_per_year=60),
                     s.ApplianceIn(name="string lights", outlet=0, rated_power="60 W", power_factor=0.9,
                                   model="constant_power", hours_per_year=60)],
-        limits=s.LimitsIn(tariff_per_kwh=0.28),
+        limits=s.ChainLimitsIn(tariff_per_kwh=0.28),
     ),
     "Workshop planer on a 50 m reel still wound on its drum": s.LeadChainRequest(
-        supply=s.SupplyIn(prospective_fault_current="900 A", prospective_earth_fault_current="450 A",
-                          earthing="TN-S", device=s.DeviceIn(type="C", rated_current="16 A")),
+        supply=s.ChainSupplyIn(prospective_fault_current="900 A", prospective_earth_fault_current="450 A",
+                          earthing="TN-S", device=s.ChainDeviceIn(type="C", rated_current="16 A")),
         leads=[s.LeadIn(name="yard reel", length="50 m", size="1.5 mm^2",
                         reel=s.ReelIn(wound="fully", marked_wound_rating="4 A"), plug_fuse="13 A")],
         appliances=[s.ApplianceIn(name="planer", rated_power="1.8 kW", power_factor=0.85, model="constant_current")],

@@ -197,7 +197,7 @@ def _thevenin(sol: Solution) -> list[s.TheveninOut]:
 def _notes(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> CalculationNotes:
     t = sol.totals
     kinds = {type(e) for e in req.elements}
-    nonlinear = any(isinstance(e, s.LoadIn) and e.model != "constant_impedance" for e in req.elements)
+    nonlinear = any(isinstance(e, s.NetworkLoadIn) and e.model != "constant_impedance" for e in req.elements)
     steps = [
         Step(name="Unknowns", formula="node voltages (reference node excluded), modified nodal analysis Y·V = I",
              value=float(sol.node_count), unit="nodes"),
@@ -256,7 +256,7 @@ def _notes(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) -> 
     assumptions.append(f"Voltages are measured from the reference node {req.reference_node!r} (0 V).")
     assumptions.append("Elements are ideal and linear (R, L, C, switches, sources behind the internal impedance "
                        "given); powers follow the passive sign convention.")
-    if s.LoadIn in kinds:
+    if s.NetworkLoadIn in kinds:
         assumptions.append(
             "Loads follow their model with voltage: constant impedance S ∝ V², constant current S ∝ V, constant "
             "power S fixed; below 0.7 of rated voltage a constant-power or constant-current load is taken as the "
@@ -328,7 +328,7 @@ def _result(req: s.NetworkSolveRequest, parsed: ParsedNetwork, sol: Solution) ->
         iterations=sol.iterations,
         max_kcl_residual_a=sol.max_kcl_residual_a,
         power_balance_residual_va=sol.power_balance_residual_va,
-        totals=s.TotalsOut(
+        totals=s.NetworkTotalsOut(
             supplied_w=t.supplied_w, supplied_var=t.supplied_var,
             consumed_by_loads_w=t.consumed_by_loads_w, consumed_by_loads_var=t.consumed_by_loads_var,
             conductor_loss_w=t.conductor_loss_w, cable_loss_w=t.cable_loss_w,
@@ -355,8 +355,8 @@ _EXAMPLES = {
                                   internal_resistance="0.02 ohm"),
                 s.CableRunIn(id="feed", a="battery_pos", b="stall_pos", length="6 m", size="2.5 mm^2",
                              conductor_class=5, conductor_temperature="30 degC", go_and_return=True),
-                s.LoadIn(id="led_strip", a="stall_pos", b="battery_neg", rated_power="36 W", rated_voltage="12 V"),
-                s.LoadIn(id="till", a="stall_pos", b="battery_neg", rated_power="24 W", rated_voltage="12 V",
+                s.NetworkLoadIn(id="led_strip", a="stall_pos", b="battery_neg", rated_power="36 W", rated_voltage="12 V"),
+                s.NetworkLoadIn(id="till", a="stall_pos", b="battery_neg", rated_power="24 W", rated_voltage="12 V",
                          model="constant_power"),
             ],
             options=s.SolveOptionsIn(thevenin_between=[s.NodePairIn(a="stall_pos", b="battery_neg")]),
@@ -371,10 +371,10 @@ _EXAMPLES = {
                 s.CableRunIn(id="sub_main", a="origin", b="hall_db", length="25 m", size="10 mm^2",
                              conductor_temperature="70 degC", go_and_return=True,
                              reactance_per_length="0.08 mohm/m"),
-                s.LoadIn(id="water_heater", a="hall_db", b="N", rated_power="3 kW", rated_voltage="230 V"),
-                s.LoadIn(id="lighting", a="hall_db", b="N", rated_power="1.2 kW", rated_voltage="230 V",
+                s.NetworkLoadIn(id="water_heater", a="hall_db", b="N", rated_power="3 kW", rated_voltage="230 V"),
+                s.NetworkLoadIn(id="lighting", a="hall_db", b="N", rated_power="1.2 kW", rated_voltage="230 V",
                          power_factor=0.95, model="constant_power"),
-                s.LoadIn(id="dishwasher", a="hall_db", b="N", rated_power="2.2 kW", rated_voltage="230 V",
+                s.NetworkLoadIn(id="dishwasher", a="hall_db", b="N", rated_power="2.2 kW", rated_voltage="230 V",
                          power_factor=0.9, model="constant_current"),
             ],
             options=s.SolveOptionsIn(thevenin_between=[s.NodePairIn(a="hall_db", b="N")]),
@@ -390,10 +390,10 @@ _EXAMPLES = {
                 *[s.CableRunIn(id=f"cable_{x}", a=x, b=f"barn_{x}", length="40 m", size="16 mm^2",
                                conductor_temperature="70 degC", reactance_per_length="0.08 mohm/m")
                   for x in ("L1", "L2", "L3", "N")],
-                s.LoadIn(id="grain_dryer_L1", a="barn_L1", b="barn_N", rated_power="7 kW", rated_voltage="230 V",
+                s.NetworkLoadIn(id="grain_dryer_L1", a="barn_L1", b="barn_N", rated_power="7 kW", rated_voltage="230 V",
                          power_factor=0.85),
-                s.LoadIn(id="lighting_L2", a="barn_L2", b="barn_N", rated_power="1.5 kW", rated_voltage="230 V"),
-                s.LoadIn(id="heaters_L3", a="barn_L3", b="barn_N", rated_power="4 kW", rated_voltage="230 V"),
+                s.NetworkLoadIn(id="lighting_L2", a="barn_L2", b="barn_N", rated_power="1.5 kW", rated_voltage="230 V"),
+                s.NetworkLoadIn(id="heaters_L3", a="barn_L3", b="barn_N", rated_power="4 kW", rated_voltage="230 V"),
             ],
         ),
 }

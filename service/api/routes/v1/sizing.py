@@ -97,60 +97,60 @@ def compute_verify(data: s.VerifyRequest) -> s.SizingResult:
 
 _SIZE_EXAMPLES = {
     "Village hall refit: 6 kW kitchen water heater, 20 m in an insulated wall, 35 °C": s.SizingRequest(
-        load=s.LoadIn(power="6 kW"),
+        load=s.SizingLoadIn(power="6 kW"),
         circuit=s.CircuitIn(length="20 m", method="A1", cable="single_core", ambient_temperature="35 degC"),
-        protection=s.ProtectionIn(device=s.DeviceIn(type="B", rated_current="32 A")),
-        supply=s.SupplyIn(ze="0.35 ohm", prospective_fault_current="3 kA")),
+        protection=s.ProtectionIn(device=s.SizingDeviceIn(type="B", rated_current="32 A")),
+        supply=s.SizingSupplyIn(ze="0.35 ohm", prospective_fault_current="3 kA")),
     "Workshop sub-main: 22 kW three-phase, 60 m clipped, 3 circuits, XLPE, gG chosen by the service": s.SizingRequest(
-        load=s.LoadIn(phases="three", power="22 kW", power_factor=0.85),
+        load=s.SizingLoadIn(phases="three", power="22 kW", power_factor=0.85),
         circuit=s.CircuitIn(length="60 m", method="C", insulation="xlpe_epr_90",
                             grouping=s.GroupingIn(circuits=3, arrangement="single_layer_wall")),
-        protection=s.ProtectionIn(device=s.DeviceIn(type="gG"), circuit_kind="distribution"),
-        supply=s.SupplyIn(ze="0.2 ohm", prospective_fault_current="8 kA")),
+        protection=s.ProtectionIn(device=s.SizingDeviceIn(type="gG"), circuit_kind="distribution"),
+        supply=s.SizingSupplyIn(ze="0.2 ohm", prospective_fault_current="8 kA")),
     "Farm building feed: 40 A single-phase, 110 m buried in ducts, TT with a 100 mA RCD": s.SizingRequest(
-        load=s.LoadIn(design_current="40 A", power_factor=0.95),
+        load=s.SizingLoadIn(design_current="40 A", power_factor=0.95),
         circuit=s.CircuitIn(length="110 m", method="D1", ambient_temperature="15 degC",
                             soil_thermal_resistivity="1.5 K*m/W"),
-        protection=s.ProtectionIn(device=s.DeviceIn(type="C", rated_current="40 A"),
-                                  rcd=s.RcdIn(rated_residual_current="100 mA")),
-        supply=s.SupplyIn(earthing="TT", ze="75 ohm", electrode_resistance="60 ohm"),
-        limits=s.LimitsIn(upstream_drop=1.0)),
+        protection=s.ProtectionIn(device=s.SizingDeviceIn(type="C", rated_current="40 A"),
+                                  rcd=s.SizingRcdIn(rated_residual_current="100 mA")),
+        supply=s.SizingSupplyIn(earthing="TT", ze="75 ohm", electrode_resistance="60 ohm"),
+        limits=s.SizingLimitsIn(upstream_drop=1.0)),
 }
 _NEC_SIZE_EXAMPLES = {
     "NEC: Texas dental clinic feeder, 480Y/277 V, 150 A (120 A continuous), 180 ft in EMT at 40 °C": s.SizingRequest(
         regime="nec",
-        load=s.LoadIn(design_current="150 A", continuous_share=0.8, power_factor=0.9),
+        load=s.SizingLoadIn(design_current="150 A", continuous_share=0.8, power_factor=0.9),
         circuit=s.CircuitIn(length="180 ft", raceway="emt", ambient_temperature="40 degC", role="feeder"),
-        supply=s.SupplyIn(system="480Y/277V")),
+        supply=s.SizingSupplyIn(system="480Y/277V")),
     "NEC: Vermont barn sub-panel, 240 V, 60 A non-continuous, 250 ft of aluminium XHHW-2 in PVC": s.SizingRequest(
         regime="nec",
-        load=s.LoadIn(design_current="60 A", continuous_share=0.0),
+        load=s.SizingLoadIn(design_current="60 A", continuous_share=0.0),
         circuit=s.CircuitIn(length="250 ft", material="aluminium", conductor_type="XHHW-2", raceway="pvc_40",
                             role="feeder"),
-        supply=s.SupplyIn(system="240V"), limits=s.LimitsIn(upstream_drop=1.0)),
+        supply=s.SizingSupplyIn(system="240V"), limits=s.SizingLimitsIn(upstream_drop=1.0)),
 }
 _VERIFY_EXAMPLES = {
     "Café kitchen circuit: 2.5 mm² on a 20 A type B, 32 m, grouped with 3 others": s.VerifyRequest(
-        load=s.LoadIn(design_current="18 A"),
+        load=s.SizingLoadIn(design_current="18 A"),
         circuit=s.VerifyCircuitIn(length="32 m", method="C", size="2.5 mm^2",
                                   grouping=s.GroupingIn(circuits=4, arrangement="bunched")),
-        protection=s.ProtectionIn(device=s.DeviceIn(type="B", rated_current="20 A"), circuit_kind="socket_outlets",
-                                  rcd=s.RcdIn(rated_residual_current="30 mA")),
-        supply=s.SupplyIn(ze="0.35 ohm")),
+        protection=s.ProtectionIn(device=s.SizingDeviceIn(type="B", rated_current="20 A"), circuit_kind="socket_outlets",
+                                  rcd=s.SizingRcdIn(rated_residual_current="30 mA")),
+        supply=s.SizingSupplyIn(ze="0.35 ohm")),
     "Workshop sub-main check: 16 mm² XLPE on a 63 A gG, 60 m, 1.5 % used upstream": s.VerifyRequest(
-        load=s.LoadIn(phases="three", design_current="45 A", power_factor=0.85),
+        load=s.SizingLoadIn(phases="three", design_current="45 A", power_factor=0.85),
         circuit=s.VerifyCircuitIn(length="60 m", method="C", insulation="xlpe_epr_90", size="16 mm^2"),
-        protection=s.ProtectionIn(device=s.DeviceIn(type="gG", rated_current="63 A"), circuit_kind="distribution"),
-        supply=s.SupplyIn(ze="0.2 ohm", prospective_fault_current="8 kA"),
-        limits=s.LimitsIn(upstream_drop=1.5)),
+        protection=s.ProtectionIn(device=s.SizingDeviceIn(type="gG", rated_current="63 A"), circuit_kind="distribution"),
+        supply=s.SizingSupplyIn(ze="0.2 ohm", prospective_fault_current="8 kA"),
+        limits=s.SizingLimitsIn(upstream_drop=1.5)),
 }
 _NEC_VERIFY_EXAMPLES = {
     "NEC: warehouse lighting branch, 277 V, 16 A continuous on 12 AWG THHN, 20 A breaker, 210 ft in EMT": s.VerifyRequest(
         regime="nec",
-        load=s.LoadIn(design_current="16 A", continuous_share=1.0),
+        load=s.SizingLoadIn(design_current="16 A", continuous_share=1.0),
         circuit=s.VerifyCircuitIn(length="210 ft", size="12 AWG", raceway="emt", current_carrying_conductors=6),
-        protection=s.ProtectionIn(device=s.DeviceIn(rated_current="20 A")),
-        supply=s.SupplyIn(system="277V")),
+        protection=s.ProtectionIn(device=s.SizingDeviceIn(rated_current="20 A")),
+        supply=s.SizingSupplyIn(system="277V")),
 }
 
 _DESCRIPTION_COMMON = (

@@ -41,17 +41,17 @@ class LoopImpedanceIn(Strict):
     reactance: quantity(INDUCTIVE_REACTANCE, "0.05 ohm") = 0.0  # type: ignore[valid-type]
 
 
-class DeviceIn(Strict):
+class ChainDeviceIn(Strict):
     type: Annotated[Literal["B", "C", "D", "gG"], Meta(
         description="Circuit-breaker curve per IEC 60898-1 (B, C, D) or a gG fuse-link per IEC 60269-1.")]
     rated_current: quantity(DEVICE_RATING, "16 A", 16)  # type: ignore[valid-type]
 
 
-class RcdIn(Strict):
+class ChainRcdIn(Strict):
     rated_residual_current: quantity(RESIDUAL_CURRENT, "30 mA", 0.03)  # type: ignore[valid-type]
 
 
-class SupplyIn(Strict):
+class ChainSupplyIn(Strict):
     """The origin socket the first lead plugs into.
 
     Give the socket's line-neutral loop impedance, or its prospective fault current (then taken as resistive);
@@ -66,8 +66,8 @@ class SupplyIn(Strict):
     earth_loop_impedance: LoopImpedanceIn | None = None
     prospective_earth_fault_current: quantity(CURRENT, "800 A") | None = None  # type: ignore[valid-type]
     earthing: Literal["TN-S", "TN-C-S", "TT"] = "TN-C-S"
-    device: DeviceIn | None = None
-    rcd: RcdIn | None = None
+    device: ChainDeviceIn | None = None
+    rcd: ChainRcdIn | None = None
     electrode_resistance: quantity(ELECTRODE_RESISTANCE, "60 ohm") | None = None  # type: ignore[valid-type]
     ambient_temperature: quantity(TEMPERATURE, "25 degC", 30) = 30.0  # type: ignore[valid-type]
     system: Annotated[Literal["standard", "rlv_single_phase_cte", "rlv_three_phase_star"], Meta(description=(
@@ -124,7 +124,7 @@ class ApplianceIn(Strict, kw_only=True):
     hours_per_year: Annotated[float, Meta(ge=0, le=8784, description="Hours of use a year, for energy and cost.")] | None = None
 
 
-class LimitsIn(Strict):
+class ChainLimitsIn(Strict):
     voltage_drop: Annotated[float, Meta(gt=0, le=50, description=(
         "Largest drop from the socket to any appliance, in % of the nominal voltage. Default 5 %: IEC 60364-5-52 "
         "Annex G, Table G.52.1, uses other than lighting."))] = 5.0
@@ -138,12 +138,12 @@ class LimitsIn(Strict):
 
 
 class LeadChainRequest(Strict, kw_only=True):
-    supply: SupplyIn
+    supply: ChainSupplyIn
     leads: Annotated[list[LeadIn], Meta(description=(
         "From the socket outwards; at most AMPLINE_MAX_CHAIN_LEADS (default 50), more gets 422."))]
     appliances: Annotated[list[ApplianceIn], Meta(description=(
         "At most AMPLINE_MAX_CHAIN_APPLIANCES (default 100), more gets 422."))] = []
-    limits: LimitsIn = LimitsIn()
+    limits: ChainLimitsIn = ChainLimitsIn()
 
 
 # -- response ---------------------------------------------------------------
@@ -305,7 +305,7 @@ class LengthLimitOut(Out):
         "Routes not assessed for lack of these inputs: greatest_m may then be longer than is safe."))]
 
 
-class TotalsOut(Out):
+class ChainTotalsOut(Out):
     socket_voltage_v: float
     lowest_appliance_voltage_v: float
     total_drop_v: float
@@ -346,7 +346,7 @@ class LeadChainResult(Out):
     unsupplied_appliances: list[UnsuppliedApplianceOut]
     leads: Annotated[list[LeadOut], Meta(description="Empty when the chain collapses (no operating point).")]
     appliances: list[ApplianceOut]
-    totals: TotalsOut | None
+    totals: ChainTotalsOut | None
     fault: FaultOut
     length_limits: list[LengthLimitOut]
     recommendations: list[str]

@@ -154,7 +154,7 @@ class CableRunIn(_TwoTerminalIn, tag="cable_run"):
     # Series reactance per metre of one conductor at the analysis frequency; 0 (resistance only) unless given.
 
 
-class LoadIn(_TwoTerminalIn, tag="load"):
+class NetworkLoadIn(_TwoTerminalIn, tag="load"):
     """A load rated ``rated_power`` (active P, or apparent S) at ``rated_voltage``; ``model`` says how it follows the
     voltage.  Its reactive power comes from ``power_factor``, or is given as ``rated_reactive_power``."""
 
@@ -204,7 +204,7 @@ class ResistorArrayIn(_Element, tag="resistor_array"):
 
 ElementIn = Union[
     ResistorIn, ImpedanceIn, InductorIn, CapacitorIn, VoltageSourceIn, CurrentSourceIn, SwitchIn,
-    CableRunIn, LoadIn, ThreePhaseSupplyIn, ResistorArrayIn,
+    CableRunIn, NetworkLoadIn, ThreePhaseSupplyIn, ResistorArrayIn,
 ]
 
 
@@ -334,7 +334,7 @@ _TWO_TERMINAL_RESULTS: dict[type, type] = {
     req: msgspec.defstruct(req.__name__.removesuffix("In") + "Out", [], bases=(_TwoTerminal,),
                            tag=req.__struct_config__.tag, module=__name__)
     for req in (ResistorIn, ImpedanceIn, InductorIn, CapacitorIn, VoltageSourceIn, CurrentSourceIn, SwitchIn,
-                CableRunIn, LoadIn)
+                CableRunIn, NetworkLoadIn)
 }
 
 
@@ -409,7 +409,7 @@ RESULT_OF: dict[type, type] = {
 ElementOut = Union[tuple(RESULT_OF.values())]  # type: ignore[valid-type]
 
 
-class TotalsOut(Out):
+class NetworkTotalsOut(Out):
     supplied_w: float
     """By all sources, at their terminals."""
     supplied_var: float
@@ -477,7 +477,7 @@ class NetworkSolveResult(Out):
     """Largest current imbalance at any node, recomputed from the element currents."""
     power_balance_residual_va: float
     """|S supplied - S absorbed by every element|."""
-    totals: TotalsOut
+    totals: NetworkTotalsOut
     elements: list[ElementOut]
     thevenin: list[TheveninOut]
     guarded_loads: list[str]

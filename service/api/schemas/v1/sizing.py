@@ -49,7 +49,7 @@ ConductorTypeField = Annotated[str, Meta(pattern=CONDUCTOR_TYPE_PATTERN, descrip
     "Insulated conductor type (NEC Table 310.4(A)); areas from Chapter 9 Table 5."))]
 
 
-class LoadIn(Strict):
+class SizingLoadIn(Strict):
     """The design current Ib, or the power it comes from."""
 
     phases: Annotated[Literal["single", "three"] | None, Meta(description=(
@@ -145,7 +145,7 @@ class VerifyCircuitIn(CircuitIn, kw_only=True):
         "larger when more than one. Default 1."))] = None
 
 
-class DeviceIn(Strict):
+class SizingDeviceIn(Strict):
     type: Annotated[Literal["B", "C", "D", "gG"] | None, Meta(description=(
         f"{IEC}: circuit-breaker type per IEC 60898-1 (B, C, D) or a gG fuse-link per IEC 60269-1. Default B. "
         "NEC: a fuse or inverse-time breaker of a Table 240.6(A) rating, no type."))] = None
@@ -165,13 +165,13 @@ class DeviceIn(Strict):
         "iec60269_1."))] = None
 
 
-class RcdIn(Strict):
+class SizingRcdIn(Strict):
     rated_residual_current: quantity(RESIDUAL_CURRENT, "30 mA", 0.03)  # type: ignore[valid-type]
 
 
 class ProtectionIn(Strict):
-    device: DeviceIn = DeviceIn()
-    rcd: RcdIn | None = None
+    device: SizingDeviceIn = SizingDeviceIn()
+    rcd: SizingRcdIn | None = None
     required_disconnection_time: quantity(DISCONNECTION_TIME, "0.4 s", 0.4) | None = None  # type: ignore[valid-type]
     circuit_kind: Annotated[Literal["socket_outlets", "fixed_equipment", "distribution"] | None, Meta(description=(
         f"{IEC}: sets the required disconnection time with the earthing system (IEC 60364-4-41 411.3.2) when none "
@@ -183,7 +183,7 @@ class ProtectionIn(Strict):
     supply.available_fault_current. Default 10 kA, a rating common for molded-case breakers (common practice)."""
 
 
-class SupplyIn(Strict, kw_only=True):
+class SizingSupplyIn(Strict, kw_only=True):
     """IEC 60364: u0, earthing, ze (required), fault current, frequency, electrode. NEC: system."""
 
     u0: quantity(VOLTAGE, "230 V", 230) | None = None  # type: ignore[valid-type]
@@ -201,7 +201,7 @@ class SupplyIn(Strict, kw_only=True):
         "120/240 V), 277V (line and neutral of 480Y/277 V), single-phase; 208Y/120V, 480Y/277V three-phase, 60 Hz."))] = None
 
 
-class LimitsIn(Strict):
+class SizingLimitsIn(Strict):
     voltage_drop: Annotated[Annotated[float, Meta(gt=0.0, le=100.0)] | None, Meta(description=(
         "Voltage-drop limit in %. IEC 60364: of U0 from the origin of the installation; default from IEC 60364-5-52 "
         "Table G.52.1 by use and supply. NEC: of this circuit; default the 3 % of the informational notes "
@@ -237,11 +237,11 @@ class SizingRequest(Strict, kw_only=True):
     regime: Annotated[Literal["iec60364", "nec"], Meta(description=(
         "The wiring standard: iec60364 (IEC 60364, the default) or nec (NFPA 70-2023). Same response shape; fields "
         "marked for the other regime are refused with a 422."))] = "iec60364"
-    load: LoadIn
+    load: SizingLoadIn
     circuit: CircuitIn
     protection: ProtectionIn = ProtectionIn()
-    supply: SupplyIn
-    limits: LimitsIn = LimitsIn()
+    supply: SizingSupplyIn
+    limits: SizingLimitsIn = SizingLimitsIn()
     protective_conductor: ProtectiveConductorIn = ProtectiveConductorIn()
 
 
