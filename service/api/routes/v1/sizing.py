@@ -96,11 +96,11 @@ def compute_verify(data: s.VerifyRequest) -> s.SizingResult:
 
 
 _SIZE_EXAMPLES = {
-    "Village hall refit: 6 kW kitchen water heater, 20 m in an insulated wall, 35 °C": s.SizingRequest(
-        load=s.SizingLoadIn(power="6 kW"),
-        circuit=s.CircuitIn(length="20 m", method="A1", cable="single_core", ambient_temperature="35 degC"),
+    "Bakery refit: 7.2 kW proving oven, 17 m in an insulated wall, 33 °C": s.SizingRequest(
+        load=s.SizingLoadIn(power="7.2 kW"),
+        circuit=s.CircuitIn(length="17 m", method="A1", cable="single_core", ambient_temperature="33 degC"),
         protection=s.ProtectionIn(device=s.SizingDeviceIn(type="B", rated_current="32 A")),
-        supply=s.SizingSupplyIn(ze="0.35 ohm", prospective_fault_current="3 kA")),
+        supply=s.SizingSupplyIn(ze="0.28 ohm", prospective_fault_current="2.5 kA")),
     "Workshop sub-main: 22 kW three-phase, 60 m clipped, 3 circuits, XLPE, gG chosen by the service": s.SizingRequest(
         load=s.SizingLoadIn(phases="three", power="22 kW", power_factor=0.85),
         circuit=s.CircuitIn(length="60 m", method="C", insulation="xlpe_epr_90",
