@@ -104,14 +104,23 @@ def test_hadolint_is_not_vacuous(tmp_path):
     assert done.returncode != 0 and "DL3006" in done.stdout and "DL3025" in done.stdout
 
 
-def test_two_stages_from_a_slim_python_3_11_base():
-    all_stages = stages()
-    assert len(all_stages) >= 2, "multi-stage: dependencies are built apart from the runtime image"
+def base_images() -> list[str]:
+    """Each stage's base image, with an ARG default substituted."""
     args = dict(a.split("=", 1) for w, a in instructions(DOCKERFILE.read_text(encoding="utf-8")) if w == "ARG" and "=" in a)
-    for stage in all_stages:
-        image = stage[0][1].split()[0]
-        image = args.get(image.strip("${}"), image)
+    return [args.get(stage[0][1].split()[0].strip("${}"), stage[0][1].split()[0]) for stage in stages()]
+
+
+def test_two_stages_from_a_slim_python_3_11_base():
+    assert len(stages()) >= 2, "multi-stage: dependencies are built apart from the runtime image"
+    for image in base_images():
         assert image.startswith("python:3.11-slim"), image
+
+
+def test_base_image_is_pinned_by_digest():
+    """A tag alone moves with every patch release: each stage's base is name@sha256:<64 hex> (issue 21, item 10)."""
+    for image in base_images():
+        name, _, digest = image.partition("@sha256:")
+        assert name and len(digest) == 64 and all(c in "0123456789abcdef" for c in digest), image
 
 
 def test_dependencies_come_from_the_run_lock_with_hashes_and_wheels_only():
