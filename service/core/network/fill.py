@@ -1,31 +1,33 @@
 """An estimate of the LU factors' size made before factorising, from the matrix's sparsity pattern alone.
 
 SuperLU (through scipy) offers no symbolic analysis, so the estimate is made here, O(nnz) and vectorised:
-the pattern is made symmetric (A + A^T), ordered by reverse Cuthill-McKee (scipy.sparse.csgraph), and the
-envelope (profile) of the permuted matrix is counted: for each row i, i minus its first nonzero column.
+the pattern is made symmetric (A + A^T), ordered two ways, by reverse Cuthill-McKee (scipy.sparse.csgraph; good
+for grids and meshes) and by a reversed depth-first order (good for radial networks, where RCM's envelope grows
+with the tree's width), and the smaller envelope (profile) of the two is kept: for each row i of the permuted
+matrix, i minus its first nonzero column.
 
-What it bounds, exactly: Gaussian elimination WITHOUT pivoting in that RCM order creates no fill outside the
+What it bounds, exactly: Gaussian elimination WITHOUT pivoting in that order creates no fill outside the
 envelope (George & Liu, Computer Solution of Large Sparse Positive Definite Systems, 1981, ch. 4: from memory),
-so L holds at most envelope + n entries (its diagonal included) and U at most envelope + n; ``2 * envelope + n``
-(L's unit diagonal counted once)
-bounds the entries of that no-pivot LU.  It is NOT a bound on SuperLU's own factorisation, which orders by minimum
-degree (MMD_AT_PLUS_A), pivots by rows and pads its supernodes: measured on this project's 2-core machine,
-SuperLU stored 0.07-0.44 times this bound on random topologies (300-20,000 nodes), 0.13-0.7 on grids of
-900-100,000 nodes, but up to 1.48 times it on small cubes (a 3-D lattice of 1,000 nodes; 0.94 at 13,824, 0.52 at
-24,389) and 1.18 on a 225-node grid.  So it is an estimate, with IN_PROCESS_MARGIN over the worst excess measured:
-a network whose estimate times the margin fits the factor budget is factorised in-process; any other in a worker
-process with an address-space limit (worker.py); and the factors are measured after every factorisation either
-way (linear.Factor).  tests/unit/test_network_fill_estimate.py checks the bound and these measured ratios.
+so L (strictly lower) holds at most envelope entries and U (diagonal included) at most envelope + n:
+``2 * envelope + n`` bounds the entries of that no-pivot LU.  It is NOT a bound on SuperLU's own factorisation,
+which orders by minimum degree (MMD_AT_PLUS_A), pivots by rows and pads its supernodes: measured on this
+project's 2-core machine, SuperLU stored 0.1-0.44 times this estimate on random topologies (300-20,000 nodes),
+0.13-0.7 on grids of 900-100,000 nodes, 0.46-0.74 on random trees (1,000-20,000 nodes), but up to 1.48 times it on
+small cubes (a 3-D lattice of 1,000 nodes; 0.94 at 13,824, 0.52 at 24,389) and 1.18 on a 225-node grid.  So it is
+an estimate, with IN_PROCESS_MARGIN over the worst excess measured: a network whose estimate times the margin
+fits the factor budget is factorised in-process; any other in a worker process with an address-space limit
+(worker.py); and the factors are measured after every factorisation either way (linear.Factor).
+tests/unit/test_network_fill_estimate.py checks the bound and these measured ratios on smaller sizes.
 
-Cost: about 5 ms for a 24,000-node grid and 25 ms for a 100,000-node one (RCM and the envelope about
-half each), against 0.1 s and 0.5 s for SuperLU's factorisation of the same matrices.
+Cost (median of 15, the 2-core machine shared with other work, load about 4): 6 ms for a 24,000-node grid and
+23 ms for a 100,000-node one, against about 0.1 s and 0.5 s for SuperLU's factorisation of the same matrices.
 """
 
 from __future__ import annotations
 
 import numpy as np
 import scipy.sparse as sp
-from scipy.sparse.csgraph import reverse_cuthill_mckee
+from scipy.sparse.csgraph import depth_first_order, reverse_cuthill_mckee
 
 from .linear import factor_bytes
 
@@ -34,21 +36,43 @@ from .linear import factor_bytes
 IN_PROCESS_MARGIN = 2
 
 
-def envelope_order(matrix: sp.spmatrix) -> tuple[np.ndarray, int]:
-    """The RCM permutation of the symmetrised pattern of a square matrix, and the envelope size in that order:
-    the sum over rows i of (i - the column of row i's first nonzero, the diagonal counted as a nonzero)."""
-    n = matrix.shape[0]
-    coo = matrix.tocoo()
-    # The pattern only: ones, so that values cancelling in A + A^T cannot drop an entry.
-    ones = np.ones(coo.nnz, dtype=np.int8)
-    pattern = sp.csr_matrix((np.r_[ones, ones], (np.r_[coo.row, coo.col], np.r_[coo.col, coo.row])), shape=(n, n))
-    perm = reverse_cuthill_mckee(pattern, symmetric_mode=True)
+def _envelope(pattern: sp.csr_matrix, perm: np.ndarray) -> int:
+    """The envelope of a symmetric pattern (its diagonal included) in the order perm."""
+    n = perm.size
     position = np.empty(n, dtype=np.int64)
     position[perm] = np.arange(n)
-    first = np.arange(n)  # the diagonal: every row's first nonzero is at most its own column
-    np.minimum.at(first, position[coo.row], position[coo.col])
-    np.minimum.at(first, position[coo.col], position[coo.row])
-    return perm, int((np.arange(n) - first).sum())
+    first = np.minimum.reduceat(position[pattern.indices], pattern.indptr[:-1])  # no row is empty: the diagonal
+    return int((position - first).sum())
+
+
+def _leaves_first(pattern: sp.csr_matrix) -> np.ndarray:
+    """A depth-first preorder of the pattern's graph from its first node, reversed (nodes it does not reach follow in
+    their own order): in a tree every node comes after all of its descendants, so a radial network's envelope is
+    about its node count times its depth, where RCM's grows with the tree's width."""
+    order = depth_first_order(pattern, 0, directed=True, return_predecessors=False)[::-1]  # symmetric: directed
+    if order.size < pattern.shape[0]:
+        reached = np.zeros(pattern.shape[0], dtype=bool)
+        reached[order] = True
+        order = np.r_[order, np.flatnonzero(~reached)]
+    return order
+
+
+def envelope_order(matrix: sp.spmatrix) -> tuple[np.ndarray, int]:
+    """Of reverse Cuthill-McKee and a reversed depth-first order of the symmetrised pattern of a square matrix, the
+    one with the smaller envelope (grids and meshes: RCM; radial networks: depth-first), and that envelope: the sum
+    over rows i of (i - the column of row i's first nonzero, the diagonal counted as a nonzero)."""
+    n = matrix.shape[0]
+    csc = sp.csc_matrix(matrix)
+    # The pattern only, as ones (so that values cancelling in A + A^T cannot drop an entry): A's CSC arrays read
+    # as CSR are A^T's pattern.
+    ones = sp.csr_matrix((np.ones(csc.indices.size, dtype=np.int8), csc.indices, csc.indptr), shape=(n, n))
+    pattern = (ones + ones.T + sp.identity(n, dtype=np.int8, format="csr")).tocsr()
+    best = None
+    for perm in (reverse_cuthill_mckee(pattern, symmetric_mode=True), _leaves_first(pattern)):
+        size = _envelope(pattern, perm)
+        if best is None or size < best[1]:
+            best = (perm, size)
+    return best
 
 
 def envelope_entries(matrix: sp.spmatrix) -> int:

@@ -87,6 +87,11 @@ def _out_of_memory(budget: float, limit: int | None) -> FactorTooLargeError:
 def _work(conn, network: m.Network, options: m.SolveOptions, budget: float, fixed: int) -> None:  # in the worker
     limit = address_space_limit(_address_space(), budget, fixed)
     resource.setrlimit(resource.RLIMIT_AS, (limit, limit))
+    try:  # if the container's memory runs out all the same, the kernel's out-of-memory killer takes this first
+        with open("/proc/self/oom_score_adj", "w") as adj:
+            adj.write("1000")
+    except OSError:
+        pass
     try:
         try:
             answer = ("solution", solve(network, options))
