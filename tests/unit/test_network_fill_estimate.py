@@ -170,3 +170,16 @@ def test_a_worker_out_of_its_address_space_answers_too_large():
         solve_in_worker(RANDOM, SolveOptions(factor_max_bytes=1 * MIB), 60.0, fixed_allowance=0)
     assert caught.value.code == "network_too_costly"
     assert caught.value.data["worker_address_space_bytes"] > 2 * MIB
+
+
+def test_the_worker_module_loads_no_http_code():
+    """What the forkserver imports (set_forkserver_preload) is the solver only: no litestar, structlog or msgspec,
+    so a worker's start costs no web-framework import."""
+    import subprocess
+    import sys
+
+    probe = ("import sys, service.core.network.worker; "
+             "print(sorted({m.split('.')[0] for m in sys.modules} & {'litestar', 'structlog', 'msgspec', 'pint'}))")
+    out = subprocess.run([sys.executable, "-c", probe], capture_output=True, text=True, check=True,
+                         cwd=os.path.dirname(os.path.dirname(os.path.dirname(os.path.abspath(__file__)))))
+    assert out.stdout.strip() == "[]"

@@ -74,11 +74,11 @@ def _address_space() -> int:
 
 def _out_of_memory(budget: float, limit: int | None) -> FactorTooLargeError:
     """The 422 for a worker that ran out of memory: its limit (``limit``), or the system's (None: it was killed)."""
-    held = f"the {limit / 2**20:.0f} MiB" if limit else "the system's memory; more than the memory"
+    held = f"more than the {limit / 2**20:.0f} MiB of memory its worker may use" if limit else \
+        "more memory than the system had for its worker"
     return FactorTooLargeError(
-        f"solving this network needed more than {held} its worker may use (the LU factors' limit of "
-        f"{budget / 2**20:.0f} MiB and the working storage of their factorisation): its topology fills in far more "
-        "than a grid or a radial network does",
+        f"solving this network needed {held} (the LU factors' limit of {budget / 2**20:.0f} MiB and the working "
+        "storage of their factorisation): its topology fills in far more than a grid or a radial network does",
         how_to_fix="split the network, or reduce its meshed part (many branches joining distant nodes fill in most)",
         data={"limit_bytes": budget, "worker_address_space_bytes": limit},
     )
@@ -111,9 +111,9 @@ def solve_in_worker(network: m.Network, options: m.SolveOptions, timeout_s: floa
     """solve(network, options) in a worker process, killed after ``timeout_s`` seconds (DeadlineExceededError).
 
     ``options.factor_max_bytes`` (required) and ``fixed_allowance`` set the worker's address-space limit
-    (:func:`address_space_limit`);
-    running out of it raises FactorTooLargeError, like factors measured over the budget. Raises what solve()
-    raises otherwise; a worker that dies without answering (killed from outside) raises RuntimeError.
+    (:func:`address_space_limit`); running out of it raises FactorTooLargeError, like factors measured over the
+    budget, and so does a worker killed by SIGKILL without answering (the kernel's out-of-memory killer). Raises
+    what solve() raises otherwise; a worker that ends any other way without answering raises RuntimeError.
     """
     global last_worker_pid
     budget = options.factor_max_bytes
