@@ -7,7 +7,9 @@ outside, so an overrun calculation runs on to its end in the background: it keep
 which is why the pool is bounded (AMPLINE_COMPUTE_THREADS) — abandoned work can hold at most that many
 threads, and later requests queue for them under their own deadlines (queued work whose request gave up
 is cancelled before it starts).  The network solver is also given the
-deadline itself, so its Newton iteration stops rather than running on.
+deadline itself, so its Newton iteration stops rather than running on, and a network whose factors' estimate
+does not fit the memory setting is solved in a worker process that is killed at the deadline
+(service/core/network/worker.py): its thread waits for it, and then nothing computes on.
 """
 
 from __future__ import annotations

@@ -90,9 +90,11 @@ class Settings:
     Past it the request gets 422 before anything is solved. Range: from 2 to 1000000."""
     network_factor_max_bytes: int = 402_653_184
     """Most bytes the LU factors of one network solve may hold (default 384 MiB; a 200,000-node grid takes
-    143 MiB DC, 238 MiB AC). Past it the request gets 422 (network-too-costly); the factorisation that
-    overran is measured once made, so its own peak is not bounded, but nothing further is kept or computed.
-    Range: from 1048576 to 17179869184."""
+    143 MiB DC, 238 MiB AC). Past it the request gets 422 (network-too-costly). Before factorising, the factors
+    are estimated from the matrix's pattern: a network whose estimate (times 2) fits is solved in-process, any
+    other in a worker process whose address space is limited to its start-up size plus twice this plus 512 MiB
+    (out of it: the same 422) and which is killed at the compute deadline. Every factorisation is measured once
+    made either way, and nothing further is kept or computed past this. Range: from 1048576 to 17179869184."""
     metrics_enabled: bool = True
     """Serve GET /metrics (Prometheus text format: request counts and latencies by route and status, the
     network solver's iterations and network sizes). ``false`` leaves the route out (404). Accepts

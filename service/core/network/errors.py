@@ -65,6 +65,18 @@ class NetworkError(CalcError):
         self.omitted: int = more_ids + more_nodes
         self.data: dict[str, Any] = dict(data or {})
 
+    def __reduce__(self):
+        # Pickled with its attributes, not through __init__ (which takes keyword arguments): a solve in a worker
+        # process (worker.py) sends its error back this way.
+        return _rebuilt, (type(self), dict(self.__dict__))
+
+
+def _rebuilt(cls: type[NetworkError], state: dict[str, Any]) -> NetworkError:
+    err = cls.__new__(cls)
+    Exception.__init__(err, state["detail"])
+    err.__dict__.update(state)
+    return err
+
 
 class EmptyNetworkError(NetworkError):
     CODE = "empty_network"

@@ -94,6 +94,8 @@ class Factor:
                 warnings.simplefilter("error", spla.MatrixRankWarning)
                 self._lu = spla.splu(matrix, permc_spec=ORDERING)
         except (RuntimeError, spla.MatrixRankWarning) as exc:
+            if "malloc" in str(exc).lower():  # SuperLU's ABORT("Malloc fails for ...") on a failed allocation
+                raise MemoryError(str(exc)) from exc
             raise _singular(str(exc)) from exc
         if budget is not None:
             # scipy's splu offers neither a symbolic analysis nor a memory limit for SuperLU, so the factors are

@@ -39,6 +39,7 @@ from .errors import (
     VoltageCollapseError,
 )
 from .expand import expand, reduce_some
+from .fill import estimated_factor_bytes
 from .linear import factor_limits
 from .loads import max_transferable_power, upper_operating_voltage
 from .newton import port_voltage, solve_nonlinear
@@ -143,10 +144,22 @@ class PreparedNetwork:
         self._system = system  # the assembled system, kept once built (the sparse one is built for topology)
 
     def solve(self) -> Solution:
-        """The same Solution (or error) as solve(self.network, self.options)."""
+        """The same Solution (or error) as solve(self.network, self.options), held to the same limits."""
         started = time.monotonic()
-        with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
+        with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"), \
+                factor_limits(self.options.factor_max_bytes, _deadline(self.options, started)):
             return self._solve_from(started)
+
+    def estimated_factor_bytes(self) -> int | None:
+        """fill.estimated_factor_bytes of this network's sparse matrix, before any factorisation; None when the
+        network is small enough to be solved densely (its dense matrix is bounded by assemble.DENSE_MAX)."""
+        if self._s.stamps is not None:
+            return None
+        if self._system is None:
+            self._system = system_for(self._prims, self._s.stamps)
+        prims = self._prims
+        newton_real_form = prims.dtype is np.complex128 and prims.nl_a.size > 0
+        return estimated_factor_bytes(self._system.matrix, real_form=newton_real_form)
 
     def replace(self, *elements: m.Element) -> PreparedNetwork:
         """This network with elements swapped for new ones of the same id.
