@@ -447,7 +447,7 @@ def slowloris(port: int, stop: threading.Event, tally: Tally) -> None:
         with tally.lock:
             tally.slow_bodies[status] += 1
         if status != "408":
-            tally.fail(f"slow body answered {reply[:100]!r}")
+            tally.fail(f"slow body: no 408 within {BODY_TIMEOUT_S * 3} s of trickling, got {reply[:100]!r}")
 
 
 def rss(process: psutil.Process) -> int:
