@@ -9,7 +9,7 @@ VENV   := .venv
 PY     := $(VENV)/bin/python
 PIP    := $(PY) -m pip --disable-pip-version-check
 
-.PHONY: run test install install-test system-test-deps system-deploy-deps contract manifest lock bench load soak startup survival audit clean
+.PHONY: run test install install-test system-test-deps system-deploy-deps contract manifest lock bench load soak startup survival fuzz audit clean
 
 $(VENV)/bin/python:
 	$(PYTHON) -m venv $(VENV)
@@ -81,9 +81,17 @@ soak: $(VENV)/.test-installed
 startup: $(VENV)/.test-installed
 	$(PY) load_tests/startup.py
 
-# 10,000 hostile requests at a real server (CI runs 1,000 in tests/e2e/test_survival.py; figures in docs/performance.md).
+# 10,000 hostile requests at a real server, then 1,000 of each costly shape of issue 21 (long strings, deep
+# nesting, empty arrays, high-fill networks, slow headers); CI runs 1,000 of the first kind only, in
+# tests/e2e/test_survival.py. Figures in docs/performance.md.
 survival: $(VENV)/.test-installed
 	$(PY) load_tests/survival.py --hostile 10000
+
+# schemathesis (every phase, positive and negative, keys on) against a real server for FUZZ_SECONDS
+# (tools/fuzz_server.py; figures in docs/performance.md). CI keeps its shorter in-process run.
+FUZZ_SECONDS ?= 600
+fuzz: $(VENV)/.test-installed
+	$(PY) tools/fuzz_server.py --seconds $(FUZZ_SECONDS)
 
 clean:
 	rm -rf $(VENV) .pytest_cache .hypothesis
