@@ -41,6 +41,7 @@ BOUNDS: dict[str, Bounds] = {
     "max_network_elements": Bounds(1, 2_000_000),
     "max_network_nodes": Bounds(2, 1_000_000),
     "network_factor_max_bytes": Bounds(1_048_576, 17_179_869_184),
+    "network_worker_cpu_s": Bounds(1, 3600),
     "max_chain_leads": Bounds(1, 1000),
     "max_chain_appliances": Bounds(0, 1000),
     "max_thevenin_pairs": Bounds(0, 200),
@@ -95,6 +96,13 @@ class Settings:
     other in a worker process whose address space is limited to its start-up size plus twice this plus 512 MiB
     (out of it: the same 422) and which is killed at the compute deadline. Every factorisation is measured once
     made either way, and nothing further is kept or computed past this. Range: from 1048576 to 17179869184."""
+    network_worker_cpu_s: int = 4
+    """Most CPU seconds (whole) a network solve in a worker process may use (see network_factor_max_bytes for
+    which solves go there; ordinary grids and radial networks never do). A worker that uses them up is ended and
+    the request gets 422 network-too-costly: the CPU a factorisation needs belongs to the network, where the
+    compute deadline's 503 also depends on the load. Keep it below AMPLINE_COMPUTE_DEADLINE_S, so that the 422
+    comes first on an unloaded server (a 100,000-node grid takes about 0.5 s in a worker). Range: from 1 to
+    3600."""
     metrics_enabled: bool = True
     """Serve GET /metrics (Prometheus text format: request counts and latencies by route and status, the
     network solver's iterations and network sizes). ``false`` leaves the route out (404). Accepts

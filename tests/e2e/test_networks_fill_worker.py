@@ -73,6 +73,16 @@ def test_a_worker_past_the_deadline_answers_503_and_is_killed():
         assert c.get("/healthz").status_code == 200
 
 
+def test_a_worker_out_of_its_cpu_seconds_answers_422_not_503():
+    """The same 6,000-node random mesh with AMPLINE_NETWORK_WORKER_CPU_S=1 and a generous deadline: the worker is
+    ended at 1 s of CPU and the answer is 422 network-too-costly naming the setting's limit (a survival run sent
+    such networks and got 503s at the deadline before)."""
+    with client(network_factor_max_bytes=64 * MIB, network_worker_cpu_s=1, compute_deadline_s=60) as c:
+        body = problem(c.post("/v1/networks/solve", json=random_mesh(6000, 9000)), 422)
+    assert body["type"].endswith("/network-too-costly") and "1 s of CPU" in body["detail"]
+    assert gone(worker.last_worker_pid)
+
+
 def test_ordinary_networks_do_not_use_the_worker(monkeypatch):
     """A 3,600-node grid (7,080 branches, the compute pool's size) and a radial feeder are solved in-process under
     the default setting."""

@@ -163,6 +163,26 @@ def test_a_worker_past_its_deadline_is_killed():
     assert gone(worker.last_worker_pid)
 
 
+def test_a_worker_out_of_its_cpu_time_answers_too_large():
+    """The same slow topology (over a second of CPU to factorise, measured) with 1 s of CPU for its worker: the
+    kernel ends the worker (SIGXCPU) and the answer is the 422 FactorTooLargeError naming the CPU limit, not the
+    deadline's 503: the CPU a factorisation needs is the network's, wall time also the machine's load."""
+    from service.core.network import worker
+
+    slow = network(random_topology(6000, 9000), 6000)
+    with pytest.raises(FactorTooLargeError) as caught:
+        solve_in_worker(slow, SolveOptions(factor_max_bytes=512 * MIB), 60.0, cpu_s=1)
+    assert caught.value.code == "network_too_costly"
+    assert caught.value.data == {"worker_cpu_s": 1}
+    assert gone(worker.last_worker_pid)
+
+
+def test_a_cpu_limit_does_not_touch_a_solve_that_fits_it():
+    options = SolveOptions(factor_max_bytes=64 * MIB)
+    there, here = solve_in_worker(GRID, options, 60.0, cpu_s=30), solve(GRID, options)
+    assert there.element("v").current.value == here.element("v").current.value
+
+
 def test_a_worker_out_of_its_address_space_answers_too_large():
     """With no allowance beyond twice the budget, the worker's allocations fail: a MemoryError there is the 422
     FactorTooLargeError (never a 500), naming the worker's limit."""

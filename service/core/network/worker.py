@@ -11,6 +11,10 @@ and the solver, no HTTP code) already imported, so a worker starts in millisecon
 them. The network and options go to the worker pickled (frozen dataclasses of floats, strings and numpy
 arrays), the Solution or the NetworkError comes back the same way.
 
+A worker also has a CPU-time limit (RLIMIT_CPU): a topology whose factorisation needs more CPU than that is
+answered like one whose factors are too big (FactorTooLargeError, 422), not with the 503 of a deadline, because
+the CPU a factorisation needs is a property of the network, where wall-clock time also depends on the load.
+
 Only one worker runs at a time per server process (``_ONE_AT_A_TIME``): with its limit, that bounds what the
 worker path can add to the process's memory. Work waiting for it waits within its own deadline.
 
@@ -72,6 +76,9 @@ def _address_space() -> int:
     raise OSError("VmSize not found in /proc/self/status")
 
 
+_HOW_TO_FIX = "split the network, or reduce its meshed part (many branches joining distant nodes fill in most)"
+
+
 def _out_of_memory(budget: float, limit: int | None) -> FactorTooLargeError:
     """The 422 for a worker that ran out of memory: its limit (``limit``), or the system's (None: it was killed)."""
     held = f"more than the {limit / 2**20:.0f} MiB of memory its worker may use" if limit else \
@@ -79,14 +86,26 @@ def _out_of_memory(budget: float, limit: int | None) -> FactorTooLargeError:
     return FactorTooLargeError(
         f"solving this network needed {held} (the LU factors' limit of {budget / 2**20:.0f} MiB and the working "
         "storage of their factorisation): its topology fills in far more than a grid or a radial network does",
-        how_to_fix="split the network, or reduce its meshed part (many branches joining distant nodes fill in most)",
+        how_to_fix=_HOW_TO_FIX,
         data={"limit_bytes": budget, "worker_address_space_bytes": limit},
     )
 
 
-def _work(conn, network: m.Network, options: m.SolveOptions, budget: float, fixed: int) -> None:  # in the worker
+def _too_much_cpu(cpu_s: int) -> FactorTooLargeError:
+    return FactorTooLargeError(
+        f"solving this network needed more than the {cpu_s} s of CPU its worker may use: its topology fills in "
+        "far more than a grid or a radial network does, so its factorisation is far more work",
+        how_to_fix=_HOW_TO_FIX,
+        data={"worker_cpu_s": cpu_s},
+    )
+
+
+def _work(conn, network: m.Network, options: m.SolveOptions, budget: float, fixed: int,
+          cpu_s: int | None) -> None:  # in the worker
     limit = address_space_limit(_address_space(), budget, fixed)
     resource.setrlimit(resource.RLIMIT_AS, (limit, limit))
+    if cpu_s is not None:  # SIGXCPU at the soft limit ends the process (its default action)
+        resource.setrlimit(resource.RLIMIT_CPU, (cpu_s, cpu_s + 1))
     try:  # if the container's memory runs out all the same, the kernel's out-of-memory killer takes this first
         with open("/proc/self/oom_score_adj", "w") as adj:
             adj.write("1000")
@@ -107,8 +126,11 @@ def _work(conn, network: m.Network, options: m.SolveOptions, budget: float, fixe
 
 
 def solve_in_worker(network: m.Network, options: m.SolveOptions, timeout_s: float,
-                    fixed_allowance: int = ADDRESS_SPACE_FIXED) -> Solution:
+                    fixed_allowance: int = ADDRESS_SPACE_FIXED, cpu_s: int | None = None) -> Solution:
     """solve(network, options) in a worker process, killed after ``timeout_s`` seconds (DeadlineExceededError).
+
+    ``cpu_s`` (whole seconds, None: no limit) is the worker's CPU time; a worker that uses it up is ended by
+    SIGXCPU (the worker installs no handler for it) and raises FactorTooLargeError.
 
     ``options.factor_max_bytes`` (required) and ``fixed_allowance`` set the worker's address-space limit
     (:func:`address_space_limit`); running out of it raises FactorTooLargeError, like factors measured over the
@@ -125,7 +147,7 @@ def solve_in_worker(network: m.Network, options: m.SolveOptions, timeout_s: floa
     try:
         ctx = _forkserver()
         receiver, sender = ctx.Pipe(duplex=False)
-        process = ctx.Process(target=_work, args=(sender, network, options, budget, fixed_allowance), daemon=True,
+        process = ctx.Process(target=_work, args=(sender, network, options, budget, fixed_allowance, cpu_s), daemon=True,
                               name="ampline-solve-worker")
         process.start()
         last_worker_pid = process.pid
@@ -137,7 +159,9 @@ def solve_in_worker(network: m.Network, options: m.SolveOptions, timeout_s: floa
                 kind, payload = receiver.recv()
             except EOFError:  # it died without answering
                 process.join()
-                if process.exitcode == -signal.SIGKILL:  # what the kernel's out-of-memory killer sends
+                if cpu_s is not None and process.exitcode == -signal.SIGXCPU:
+                    kind, payload = "error", _too_much_cpu(cpu_s)
+                elif process.exitcode == -signal.SIGKILL:  # what the kernel's out-of-memory killer sends
                     kind, payload = "error", _out_of_memory(budget, None)
                 else:
                     raise RuntimeError(f"the solve worker ended without an answer (exit code {process.exitcode})") \

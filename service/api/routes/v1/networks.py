@@ -71,7 +71,8 @@ def solve_network(req: s.NetworkSolveRequest, settings: Settings) -> s.NetworkSo
         # Extreme but valid inputs (1e-300 ohm next to 1e12 ohm) can overflow on the way; the core checks every
         # result for finiteness and refuses with 422, so numpy's floating-point warnings are only noise here.
         with np.errstate(divide="ignore", over="ignore", under="ignore", invalid="ignore"):
-            sol = _solve(parsed, settings.compute_deadline_s - (time.monotonic() - started))
+            sol = _solve(parsed, settings.compute_deadline_s - (time.monotonic() - started),
+                         settings.network_worker_cpu_s)
             return _result(req, parsed, sol)  # element records are built lazily, so inside the guard too
     except DeadlineExceededError as err:  # the solver's own deadline (the compute deadline): same answer as the pool's
         raise ComputeDeadlineExceeded(settings.compute_deadline_s, waiting=False) from err
@@ -79,17 +80,17 @@ def solve_network(req: s.NetworkSolveRequest, settings: Settings) -> s.NetworkSo
         raise explain(err, req) from err
 
 
-def _solve(parsed: ParsedNetwork, time_left_s: float) -> Solution:
+def _solve(parsed: ParsedNetwork, time_left_s: float, worker_cpu_s: int) -> Solution:
     """In this process when the factors' estimate (core fill.py, before any factorisation), with its margin, fits
     the memory setting, as grids of up to about 55,000 nodes (DC; 38,000 AC) and radial networks do under the default; otherwise in a worker process with an address-space
-    limit, killed at the deadline (core worker.py), so that a topology that fills in far more can neither grow
+    limit, killed at the deadline and held to AMPLINE_NETWORK_WORKER_CPU_S of CPU (core worker.py), so that a topology that fills in far more can neither grow
     this process nor compute on after its 503. The factors are measured against the setting either way."""
     prepared = prepare(parsed.network, parsed.options)
     estimate = prepared.estimated_factor_bytes()
     budget = parsed.options.factor_max_bytes
     if estimate is None or budget is None or estimate * IN_PROCESS_MARGIN <= budget:
         return prepared.solve()
-    return solve_in_worker(parsed.network, parsed.options, max(time_left_s, 0.0))
+    return solve_in_worker(parsed.network, parsed.options, max(time_left_s, 0.0), cpu_s=worker_cpu_s)
 
 
 # --------------------------------------------------------------------------- response
