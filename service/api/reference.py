@@ -124,7 +124,12 @@ def head_as_get_middleware(app: ASGIApp) -> ASGIApp:
                 message = {"type": "http.response.body", "body": b"", "more_body": False}
             await send(message)
 
-        await app({**scope, "method": "GET"}, receive, send_without_body)
+        as_get = {**scope, "method": "GET"}
+        try:
+            await app(as_get, receive, send_without_body)
+        finally:  # the route litestar matched, for the request's log line
+            if "path_template" in as_get:
+                scope["path_template"] = as_get["path_template"]
 
     return middleware
 
