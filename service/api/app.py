@@ -18,7 +18,8 @@ from service.api.headers import security_headers_middleware
 from service.api.observability import configure_logging, request_logging_middleware
 from service.api.metrics import metrics_middleware, metrics_route_handlers
 from service.api.problems import EXCEPTION_HANDLERS, PROBLEM_BASE, Problem, body_guard
-from service.api.reference import head_as_get_middleware, reference_caching_middleware, schema_not_found_as_problem
+from service.api.reference import (head_as_get_middleware, is_reference_path, reference_caching_middleware,
+                                   schema_not_found_as_problem)
 from service.api.routes.operational import healthz, readyz
 from service.api.routes.v1.chains import analyse_lead_chain
 from service.api.routes.v1.conductors import compute_run_resistance_route, list_conductors
@@ -120,6 +121,6 @@ def create_app(settings: Settings | None = None) -> Litestar:
     # headers too (and are compressed, and answer HEAD, like the rest).
     handler = cors_refusals_as_problems(app.asgi_handler) if app.cors_config else app.asgi_handler
     handler = reference_caching_middleware(schema_not_found_as_problem(handler, Problem, PROBLEM_BASE))
-    handler = head_as_get_middleware(gzip_middleware(handler))
+    handler = head_as_get_middleware(gzip_middleware(handler, cacheable=is_reference_path))
     app.asgi_handler = security_headers_middleware(request_logging_middleware(handler), settings)
     return app

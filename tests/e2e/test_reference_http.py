@@ -308,3 +308,23 @@ def test_with_keys_on_unknown_schema_paths_are_401_without_a_key_and_404_with_on
         for path in ("/schema/nope", "/schema/a/b"):
             problem(c.get(path), 401)
             problem(c.get(path, headers={"authorization": f"Bearer {KEY}"}), 404)
+
+
+def test_a_reference_answer_is_compressed_once_and_a_calculation_each_time(monkeypatch):
+    from service.api import compression
+
+    calls: list[int] = []
+    real = compression.compress
+    monkeypatch.setattr(compression, "compress", lambda body: calls.append(len(body)) or real(body))
+    # a ladder of our own: 12 V across 40 one-ohm resistors in series and a one-ohm load
+    rungs = [{"type": "resistor", "id": f"r{i}", "a": f"n{i}", "b": f"n{i + 1}", "resistance": 1} for i in range(40)]
+    big_network = {"frequency": 0, "reference_node": "gnd", "elements": [
+        {"type": "voltage_source", "id": "v", "pos": "n0", "neg": "gnd", "voltage": 12}, *rungs,
+        {"type": "resistor", "id": "load", "a": "n40", "b": "gnd", "resistance": 1}]}
+    with TestClient(create_app(Settings())) as c:
+        answers = [c.get("/v1/tables", headers={"accept-encoding": "gzip"}) for _ in range(3)]
+        assert all(a.headers["content-encoding"] == "gzip" for a in answers) and len(calls) == 1
+        assert len({a.content for a in answers}) == 1
+        solved = [c.post("/v1/networks/solve", json=big_network, headers={"accept-encoding": "gzip"}) for _ in range(2)]
+    assert [s.status_code for s in solved] == [200, 200], solved[0].text
+    assert all(s.headers["content-encoding"] == "gzip" for s in solved) and len(calls) == 3
