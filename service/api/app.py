@@ -91,8 +91,8 @@ def cors_config(settings: Settings) -> CORSConfig | None:
     if not origins:
         return None
     return CORSConfig(allow_origins=origins, allow_methods=["GET", "POST"],
-                      allow_headers=["authorization", "content-type", "x-request-id"],
-                      expose_headers=["x-request-id", "retry-after"], allow_credentials=False, max_age=600)
+                      allow_headers=["authorization", "content-type", "x-request-id", "if-none-match"],
+                      expose_headers=["x-request-id", "retry-after", "etag"], allow_credentials=False, max_age=600)
 
 
 def create_app(settings: Settings | None = None) -> Litestar:

@@ -328,3 +328,13 @@ def test_a_reference_answer_is_compressed_once_and_a_calculation_each_time(monke
         solved = [c.post("/v1/networks/solve", json=big_network, headers={"accept-encoding": "gzip"}) for _ in range(2)]
     assert [s.status_code for s in solved] == [200, 200], solved[0].text
     assert all(s.headers["content-encoding"] == "gzip" for s in solved) and len(calls) == 3
+
+
+def test_a_browser_app_can_read_the_etag_and_send_it_back():
+    origin = "https://quotes.example.org"
+    with TestClient(create_app(Settings(cors_allow_origins=origin))) as c:
+        answer = c.get("/v1/tables", headers={"origin": origin})
+        assert "etag" in answer.headers["access-control-expose-headers"].lower()
+        allowed = c.options("/v1/tables", headers={"origin": origin, "access-control-request-method": "GET",
+                                                   "access-control-request-headers": "if-none-match"})
+        assert allowed.status_code == 204 and "if-none-match" in allowed.headers["access-control-allow-headers"].lower()
