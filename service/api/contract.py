@@ -227,8 +227,20 @@ def contract_of(app: Litestar) -> dict[str, Any]:
     return finish_contract(app.openapi_schema.to_schema())
 
 
+class _WithoutAliases(yaml.SafeDumper):
+    """Every shared piece written out in full: ``&id001``/``*id001`` aliases are valid YAML, but several OpenAPI
+    tools (and readers) do not follow them."""
+
+    def ignore_aliases(self, data: Any) -> bool:
+        return True
+
+
+def dump_contract(document: dict[str, Any], **options: Any) -> str:
+    return yaml.dump(document, Dumper=_WithoutAliases, sort_keys=True, allow_unicode=True, **options)
+
+
 def contract_yaml(app: Litestar) -> str:
-    return yaml.safe_dump(contract_of(app), sort_keys=True, allow_unicode=True, width=100)
+    return dump_contract(contract_of(app), width=100)
 
 
 class FinishedJsonRenderPlugin(JsonRenderPlugin):
@@ -249,7 +261,7 @@ class FinishedYamlRenderPlugin(YamlRenderPlugin):
 
     def render(self, request: Request, openapi_schema: dict[str, Any]) -> bytes:
         if self._rendered is None:
-            self._rendered = yaml.safe_dump(finish_contract(openapi_schema), sort_keys=True, allow_unicode=True).encode()
+            self._rendered = dump_contract(finish_contract(openapi_schema)).encode()
         return self._rendered
 
 

@@ -72,17 +72,17 @@ def _without(headers: list[tuple[bytes, bytes]], names: frozenset[bytes]) -> lis
 
 
 def reference_caching_middleware(app: ASGIApp) -> ASGIApp:
-    """ETag and Cache-Control on the 200 answers of the reference GETs, and 304 when If-None-Match matches."""
-    tag = entity_tag()
-    opaque = tag.removeprefix("W/").strip('"')
-    added = [(b"etag", tag.encode("ascii")), (b"cache-control", f"max-age={REFERENCE_MAX_AGE_S}".encode("ascii"))]
-    replaced = frozenset(name for name, _ in added)
+    """ETag and Cache-Control on the 200 answers of the reference GETs, and 304 when If-None-Match matches.
+    The tag is read on first use (data_version is cached): start-up has checked the manifest by then."""
+    replaced = frozenset({b"etag", b"cache-control"})
+    cache_control = f"max-age={REFERENCE_MAX_AGE_S}".encode("ascii")
 
     async def middleware(scope: Scope, receive: Receive, send: Send) -> None:
         if scope["type"] != "http" or scope["method"] != "GET" or not is_reference_path(scope["path"]):
             await app(scope, receive, send)
             return
-        matched = none_match(_headers_named(scope, b"if-none-match"), opaque)
+        added = [(b"etag", entity_tag().encode("ascii")), (b"cache-control", cache_control)]
+        matched = none_match(_headers_named(scope, b"if-none-match"), data_version())
         not_modified = False
 
         async def send_with_validators(message: Message) -> None:
