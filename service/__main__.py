@@ -10,6 +10,7 @@ runs the ASGI lifespan so start-up table validation fails fast.
 from __future__ import annotations
 
 import functools
+import re
 import sys
 
 import structlog
@@ -33,8 +34,24 @@ def _refuse_defective_tables(settings: Settings) -> None:
         sys.exit(1)
 
 
+_SETTING_NAME = re.compile(r"AMPLINE_[A-Z0-9_]+")
+
+
+def _settings_or_refuse() -> Settings:
+    """The settings from the environment; a refused one exits 1 with one ``startup_refused`` log line naming the
+    settings concerned (not a traceback): a non-loopback AMPLINE_HOST with keys off, a value out of range..."""
+    try:
+        return Settings.from_env()
+    except ValueError as exc:
+        configure_logging(Settings())  # the defaults: the refused settings may be the log format itself
+        structlog.get_logger().critical("startup_refused", reason="invalid setting",
+                                        settings=list(dict.fromkeys(_SETTING_NAME.findall(str(exc)))),
+                                        detail=str(exc))
+        sys.exit(1)
+
+
 def main() -> None:
-    settings = Settings.from_env()
+    settings = _settings_or_refuse()
     _refuse_defective_tables(settings)
     uvicorn.run(
         "service.api.app:create_app",

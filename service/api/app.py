@@ -11,12 +11,15 @@ from litestar.openapi.spec import Contact, Tag
 
 from service import API_VERSION
 from service.api.access import access_middleware
+from service.api.compression import gzip_middleware
 from service.api.compute import ComputePool
 from service.api.cors import cors_refusals_as_problems
 from service.api.headers import security_headers_middleware
 from service.api.observability import configure_logging, request_logging_middleware
 from service.api.metrics import metrics_middleware, metrics_route_handlers
-from service.api.problems import EXCEPTION_HANDLERS, body_guard
+from service.api.problems import EXCEPTION_HANDLERS, PROBLEM_BASE, Problem, body_guard
+from service.api.reference import (head_as_get_middleware, is_reference_path, reference_caching_middleware,
+                                   schema_not_found_as_problem)
 from service.api.routes.operational import healthz, readyz
 from service.api.routes.v1.chains import analyse_lead_chain
 from service.api.routes.v1.conductors import compute_run_resistance_route, list_conductors
@@ -24,6 +27,7 @@ from service.api.routes.v1.meta import service_meta
 from service.api.routes.v1.networks import network_route_handlers
 from service.api.routes.v1.raceways import raceway_fill_route
 from service.api.routes.v1.sizing import sizing_route_handlers
+from service.api.routes.v1.tables import table_route_handlers
 from service.api.settings import Settings
 from service.core.conductors import default_library
 from service.core.cord_conductors import default_cord_conductors
@@ -87,8 +91,8 @@ def cors_config(settings: Settings) -> CORSConfig | None:
     if not origins:
         return None
     return CORSConfig(allow_origins=origins, allow_methods=["GET", "POST"],
-                      allow_headers=["authorization", "content-type", "x-request-id"],
-                      expose_headers=["x-request-id", "retry-after"], allow_credentials=False, max_age=600)
+                      allow_headers=["authorization", "content-type", "x-request-id", "if-none-match"],
+                      expose_headers=["x-request-id", "retry-after", "etag"], allow_credentials=False, max_age=600)
 
 
 def create_app(settings: Settings | None = None) -> Litestar:
@@ -98,7 +102,7 @@ def create_app(settings: Settings | None = None) -> Litestar:
     access = access_middleware(settings)  # API keys and rate limit; None when neither is configured
     v1 = Router(path="/v1", route_handlers=[service_meta, list_conductors, compute_run_resistance_route,
                                             *network_route_handlers(settings), analyse_lead_chain,
-                                            *sizing_route_handlers, raceway_fill_route])
+                                            *sizing_route_handlers, raceway_fill_route, *table_route_handlers])
     app = Litestar(
         route_handlers=[healthz, readyz, v1, *(metrics_route_handlers() if settings.metrics_enabled else [])],
         # GET /metrics (AMPLINE_METRICS_ENABLED) outermost, so refusals by the access guard are counted too
@@ -114,7 +118,9 @@ def create_app(settings: Settings | None = None) -> Litestar:
         debug=False,
     )
     # Wrapped outside litestar's router so 404/405 answers are logged and carry a request id and the security
-    # headers too.
+    # headers too (and are compressed, and answer HEAD, like the rest).
     handler = cors_refusals_as_problems(app.asgi_handler) if app.cors_config else app.asgi_handler
+    handler = reference_caching_middleware(schema_not_found_as_problem(handler, Problem, PROBLEM_BASE))
+    handler = head_as_get_middleware(gzip_middleware(handler, cacheable=is_reference_path))
     app.asgi_handler = security_headers_middleware(request_logging_middleware(handler), settings)
     return app

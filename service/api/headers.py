@@ -2,7 +2,8 @@
 
 The service answers JSON only, so the policy is the strictest one: nothing may be loaded, framed or sniffed
 from its answers, and no answer is cached (results depend on the request body, and a shared cache keyed on
-the URL would hand one caller's result to another).  A header a route set itself is left as it is.
+the URL would hand one caller's result to another).  A header a route set itself is left as it is: the
+reference GETs' ``Cache-Control: max-age`` (``reference.py``: the same for every caller, and revalidated by ETag).
 Strict-Transport-Security is a setting: TLS ends at the gateway, which knows whether every client uses it.
 """
 

@@ -354,7 +354,43 @@ def _strictly_valid(body: bytes, decoder: msgspec.json.Decoder, annotation: Any)
     return None
 
 
-async def body_guard(request: Request) -> None:
+_QUERY_PARAMETERS: dict[Any, frozenset[str]] = {}
+UTF8_BOM = b"\xef\xbb\xbf"
+_MALFORMED = "JSON is malformed"
+
+
+def _query_parameters(request: Request) -> frozenset[str]:
+    """The query parameters the route declares (cached per handler): litestar ignores any other one silently."""
+    handler = request.route_handler
+    if handler not in _QUERY_PARAMETERS:
+        model = handler.create_kwargs_model(path_parameters=dict.fromkeys(request.path_params))  # type: ignore[arg-type]
+        _QUERY_PARAMETERS[handler] = frozenset(p.field_alias for p in model.expected_query_params)
+    return _QUERY_PARAMETERS[handler]
+
+
+UNKNOWN_QUERY_SLUG = "unknown-query-parameter"
+_UNKNOWN_QUERY = "unknown query parameter: not accepted (check the spelling against the schema)"
+
+
+def unknown_query_parameters(request: Request) -> Response[Problem] | None:
+    """400 naming every query parameter the route does not take, as an unknown body field is refused: a
+    misspelt filter (``?materal=copper``) would otherwise answer the unfiltered list as if it were filtered.
+    Probes and /schema too: one rule for every route."""
+    unknown = [name for name in dict.fromkeys(request.query_params) if name not in _query_parameters(request)]
+    if not unknown:
+        return None
+    problems = [FieldProblem("", _UNKNOWN_QUERY, parameter=name[:100]) for name in unknown[:20]]
+    return problem_response(HTTP_400_BAD_REQUEST, "; ".join(f"{p.parameter}: {p.message}" for p in problems),
+                            request, slug=UNKNOWN_QUERY_SLUG, title="The request does not fit the schema",
+                            errors=problems)
+
+
+def _malformed_detail(exc: msgspec.DecodeError) -> str:
+    message = str(exc)  # msgspec says "JSON is malformed: ..." itself for some defects, not for others
+    return message if message.startswith(_MALFORMED) else f"{_MALFORMED}: {message}"
+
+
+async def body_guard(request: Request) -> Response[Problem] | None:
     """Refuse a body that is not JSON (415), and one that only fits the schema by coercion (400).
 
     litestar converts request bodies with msgspec's lax mode, which would take
@@ -363,15 +399,17 @@ async def body_guard(request: Request) -> None:
     route's request type; only a body that passes reaches litestar's own
     conversion (and so the handler).
     """
+    if (refusal := unknown_query_parameters(request)) is not None:
+        return refusal
     if request.method not in ("POST", "PUT", "PATCH"):
-        return
+        return None
     content_type = request.headers.get("content-type", "")
     media = content_type.split(";", 1)[0].strip().lower()
     if media != MediaType.JSON and not (media.startswith("application/") and media.endswith("+json")):
         raise HTTPException(status_code=415, detail="Send the body as application/json.")
     strict = _strict_decoder(request.route_handler)
     if strict is None:
-        return
+        return None
     timeout_s = request.app.state.settings.body_timeout_s
     try:  # over the size limit: 413 here; a body trickled in slower than the timeout (slowloris): 408
         body = await asyncio.wait_for(request.body(), timeout_s)
@@ -381,6 +419,9 @@ async def body_guard(request: Request) -> None:
     except InternalServerException:  # litestar's word for a client gone before its body was complete: not our fault
         raise HTTPException(status_code=HTTP_400_BAD_REQUEST, detail="The request body ended before it was complete.",
                             headers={"Connection": "close"}) from None
+    if body.startswith(UTF8_BOM):  # RFC 8259, section 8.1: implementations must not add one
+        raise HTTPException(status_code=HTTP_400_BAD_REQUEST,
+                            detail="the body starts with a UTF-8 byte-order mark; send JSON without it")
     try:
         normalised = _strictly_valid(body, *strict)
     except RecursionError:  # msgspec's decoder meets the interpreter's own limit first (about 1,000 levels)
@@ -389,7 +430,8 @@ async def body_guard(request: Request) -> None:
         raise ValidationException(detail="body does not fit the schema",
                                   extra=[{"key": "data", "message": str(exc), "source": "body"}]) from None
     except msgspec.DecodeError as exc:
-        raise HTTPException(status_code=HTTP_400_BAD_REQUEST, detail=f"JSON is malformed: {exc}") from None
+        raise HTTPException(status_code=HTTP_400_BAD_REQUEST, detail=_malformed_detail(exc)) from None
     refuse_duplicate_keys(body)  # both decoders keep the last of a repeated key silently
     if normalised is not None:  # litestar's request.json() reads this instead of decoding the body again
         ScopeState.from_scope(request.scope).json = normalised
+    return None

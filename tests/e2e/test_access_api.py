@@ -119,8 +119,9 @@ def test_keys_never_reach_the_logs(capsys):
         c.get(f"/v1/no-such-route/{KEY}", headers=bearer(KEY))
     out = capsys.readouterr().out
     lines = [json.loads(line) for line in out.splitlines() if line.startswith("{")]
-    assert sorted(r["status"] for r in lines if r.get("event") == "request") == [200, 200, 401, 403, 404, 422]
-    assert {r.get("caller") for r in lines if r.get("status") == 200} == {"key:quoting", "key:site"}
+    # the key in a query parameter: an unknown parameter since issue 16 (400), refused after the key let it in
+    assert sorted(r["status"] for r in lines if r.get("event") == "request") == [200, 400, 401, 403, 404, 422]
+    assert {r.get("caller") for r in lines if r.get("status") in (200, 400)} == {"key:quoting", "key:site"}
     assert KEY not in out and OTHER_KEY not in out and KEY[:12] not in out
 
 

@@ -116,3 +116,12 @@ def test_builds_the_images_dockerfile(service):
     build = service["build"]
     context = (COMPOSE.parent / build["context"]).resolve()
     assert context == ROOT and (context / build["dockerfile"]).is_file()
+
+
+def test_the_port_is_published_on_loopback_unless_an_address_is_chosen(service):
+    # issue 16, item 8: the default "${PUBLISH_ADDRESS:-0.0.0.0}" offered the service on every interface of the
+    # host, against the README's "office network only"; the office address must be chosen deliberately.
+    (mapping,) = service["ports"]
+    address = re.fullmatch(r"\$\{PUBLISH_ADDRESS:-(?P<default>[^}]*)\}:.*", str(mapping))
+    assert address is not None, mapping
+    assert address["default"] == "127.0.0.1"
