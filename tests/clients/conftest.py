@@ -27,6 +27,7 @@ import pytest
 import yaml
 
 from service.api.keys import hash_key
+from tests.clients.readme_snippets import readme_snippet
 from tests.e2e.conftest import LiveServer, start_server
 
 ROOT = Path(__file__).resolve().parents[2]
@@ -158,8 +159,6 @@ README_TS = "readme_example.ts"
 def typescript_build(tmp_path_factory: pytest.TempPathFactory) -> TypeScriptBuild:
     """schema.d.ts from openapi-typescript, and caller.ts, typed_answers.ts and the README's TypeScript example
     compiled together by `tsc --strict` (one compile: each file's errors are read apart)."""
-    from tests.clients.readme_snippets import readme_snippet
-
     node()
     generator, tsc = tool(NODE_BIN / "openapi-typescript"), tool(NODE_BIN / "tsc")
     folder = tmp_path_factory.mktemp("typescript-client")

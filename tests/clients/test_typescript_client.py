@@ -45,10 +45,22 @@ def test_caller_compiles_under_tsc_strict(typescript_build):
 
 
 def test_caller_calls_every_operation_with_a_key(typescript_build, keyed_server, examples_file, contract):
-    env = {**os.environ, "AMPLINE_BASE_URL": keyed_server.base_url, "AMPLINE_EXAMPLES": str(examples_file),
-           "AMPLINE_API_KEY": API_KEY}
-    done = run([node(), "out/caller.js"], cwd=typescript_build.folder, env=env)
+    done = run_caller(typescript_build, keyed_server.base_url, examples_file, API_KEY)
     assert_every_operation_answered(done, contract)
+
+
+def test_caller_calls_every_operation_without_a_key_when_keys_are_off(typescript_build, open_server, examples_file,
+                                                                      contract):
+    done = run_caller(typescript_build, open_server.base_url, examples_file)
+    assert_every_operation_answered(done, contract)
+
+
+def run_caller(build, base_url: str, examples_file, api_key: str | None = None):
+    env = {**os.environ, "AMPLINE_BASE_URL": base_url, "AMPLINE_EXAMPLES": str(examples_file)}
+    env.pop("AMPLINE_API_KEY", None)
+    if api_key is not None:
+        env["AMPLINE_API_KEY"] = api_key
+    return run([node(), "out/caller.js"], cwd=build.folder, env=env)
 
 
 @pytest.mark.parametrize("check", [
