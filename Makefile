@@ -36,6 +36,8 @@ $(GEN_VENV)/.installed: requirements/generators.lock
 
 # Node.js and npm (Debian packages, when absent) and the npm tools pinned in tests/clients/node/package-lock.json
 # (Redocly, openapi-typescript, openapi-fetch, TypeScript), for tests/clients. None needs an install script.
+# Redocly CLI is the 1.34 line: 2.x wants Node 20.19 or later, and Debian 12's nodejs is 18.20. TypeScript is the
+# 5.x line, the one openapi-typescript 7 names as its peer.
 $(NODE_DIR)/node_modules/.installed: $(NODE_DIR)/package-lock.json
 	@{ command -v node && command -v npm; } >/dev/null 2>&1 || { \
 	  echo "installing nodejs and npm (Debian packages) for the generated-client tests"; \
