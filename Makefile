@@ -8,8 +8,11 @@ PYTHON ?= python3
 VENV   := .venv
 PY     := $(VENV)/bin/python
 PIP    := $(PY) -m pip --disable-pip-version-check
+# Client generators (tests/clients) in a venv of their own: openapi-python-client caps httpx below the service's pin.
+GEN_VENV := .venv-generators
+NODE_DIR := tests/clients/node
 
-.PHONY: run test install install-test system-test-deps system-deploy-deps contract manifest lock bench load soak startup survival fuzz audit clean
+.PHONY: run test install install-test system-test-deps system-deploy-deps client-test-deps contract manifest lock bench load soak startup survival fuzz audit clean
 
 $(VENV)/bin/python:
 	$(PYTHON) -m venv $(VENV)
@@ -24,7 +27,26 @@ $(VENV)/.test-installed: requirements/test.lock | $(VENV)/bin/python
 
 install: $(VENV)/.run-installed
 
-install-test: $(VENV)/.test-installed system-test-deps system-deploy-deps
+install-test: $(VENV)/.test-installed system-test-deps system-deploy-deps client-test-deps
+
+$(GEN_VENV)/.installed: requirements/generators.lock
+	$(PYTHON) -m venv $(GEN_VENV)
+	$(GEN_VENV)/bin/python -m pip --disable-pip-version-check install --quiet --require-hashes -r requirements/generators.lock
+	touch $@
+
+# Node.js and npm (Debian packages, when absent) and the npm tools pinned in tests/clients/node/package-lock.json
+# (Redocly, openapi-typescript, openapi-fetch, TypeScript), for tests/clients. None needs an install script.
+# Redocly CLI is the 1.34 line: 2.x wants Node 20.19 or later, and Debian 12's nodejs is 18.20. TypeScript is the
+# 5.x line, the one openapi-typescript 7 names as its peer.
+$(NODE_DIR)/node_modules/.installed: $(NODE_DIR)/package-lock.json
+	@{ command -v node && command -v npm; } >/dev/null 2>&1 || { \
+	  echo "installing nodejs and npm (Debian packages) for the generated-client tests"; \
+	  SUDO=$$( [ "$$(id -u)" = 0 ] || echo sudo ); \
+	  $$SUDO apt-get update -qq && DEBIAN_FRONTEND=noninteractive $$SUDO apt-get install -y -qq nodejs npm >/dev/null; }
+	cd $(NODE_DIR) && npm ci --ignore-scripts --no-audit --no-fund --loglevel=error
+	touch $@
+
+client-test-deps: $(GEN_VENV)/.installed $(NODE_DIR)/node_modules/.installed
 
 # ngspice is the independent circuit oracle of tests/reference (Debian package).
 system-test-deps:
@@ -46,7 +68,7 @@ run: install
 # The audit runs first, so pytest's summary stays the last line of the output.
 test: install-test
 	$(PY) tools/audit_locks.py
-	AMPLINE_REQUIRE_NGSPICE=1 $(PY) -m pytest
+	AMPLINE_REQUIRE_NGSPICE=1 AMPLINE_REQUIRE_CLIENT_TOOLS=1 $(PY) -m pytest
 
 # Known vulnerabilities in the locked dependencies (pip-audit). A vulnerability fails; an advisory service
 # that cannot be reached prints "NOT checked" and fails only with AMPLINE_AUDIT_REQUIRED=1 (tools/audit_locks.py).
@@ -67,6 +89,7 @@ lock: install-test
 	$(PIP) install --quiet uv
 	$(VENV)/bin/uv pip compile pyproject.toml --extra test --generate-hashes --python-version 3.11 --universal -o requirements/test.lock
 	$(VENV)/bin/uv pip compile pyproject.toml --generate-hashes --python-version 3.11 --universal -c requirements/test.lock -o requirements/run.lock
+	$(VENV)/bin/uv pip compile requirements/generators.in --generate-hashes --python-version 3.11 --universal -o requirements/generators.lock
 
 bench: install-test
 	$(PY) load_tests/bench_network.py
@@ -94,4 +117,4 @@ fuzz: $(VENV)/.test-installed
 	$(PY) tools/fuzz_server.py --seconds $(FUZZ_SECONDS)
 
 clean:
-	rm -rf $(VENV) .pytest_cache .hypothesis
+	rm -rf $(VENV) $(GEN_VENV) $(NODE_DIR)/node_modules .pytest_cache .hypothesis

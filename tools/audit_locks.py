@@ -27,7 +27,7 @@ from pathlib import Path
 from typing import Callable
 
 ROOT = Path(__file__).resolve().parents[1]
-LOCKS = (ROOT / "requirements" / "run.lock", ROOT / "requirements" / "test.lock")
+LOCKS = tuple(ROOT / "requirements" / name for name in ("run.lock", "test.lock", "generators.lock"))
 SERVICES = ("pypi", "osv")
 _NETWORK_SIGNS = ("ConnectionError", "NameResolutionError", "Max retries exceeded", "timed out", "Temporary failure",
                   "Network is unreachable", "ConnectTimeout", "ReadTimeout", "SSLError", "ProxyError")
