@@ -23,7 +23,7 @@ from typing import Any, TypeAlias
 from ampline_api_client import AuthenticatedClient, Client
 from ampline_api_client.api.conductors import compute_run_resistance, list_conductors
 from ampline_api_client.api.lead_chains import analyse_lead_chain
-from ampline_api_client.api.meta import get_service_meta
+from ampline_api_client.api.meta import get_service_meta, get_table, list_tables
 from ampline_api_client.api.networks import solve_network
 from ampline_api_client.api.operations import get_liveness, get_readiness
 from ampline_api_client.api.raceways import raceway_fill
@@ -31,6 +31,7 @@ from ampline_api_client.api.sizing import size_conductor, verify_conductor
 from ampline_api_client.models import (
     CableRunOut,
     ConductorList,
+    GetTableTableId,
     Health,
     LeadChainRequest,
     LeadChainResult,
@@ -49,6 +50,8 @@ from ampline_api_client.models import (
     SizingRequest,
     SizingResult,
     SizingResultSizingVerdict,
+    TableDetail,
+    TableList,
     VerifyRequest,
 )
 
@@ -101,6 +104,18 @@ def call_reference(client: AnyClient) -> None:
     assert isinstance(listed, ConductorList)
     check(listed.count == len(listed.conductors) > 0, "listConductors count differs from its list")
     print(f"ok listConductors count={listed.count}")
+    tables = list_tables.sync(client=client)
+    check(isinstance(tables, TableList), f"listTables answered {tables!r}")
+    assert isinstance(tables, TableList)
+    check(tables.count == len(tables.tables) == len(meta.tables), "listTables count differs from its list or the meta")
+    print(f"ok listTables count={tables.count}")
+    table = get_table.sync(GetTableTableId.IEC60228_TABLE2, client=client)
+    check(isinstance(table, TableDetail), f"getTable answered {table!r}")
+    assert isinstance(table, TableDetail)
+    row = next(r for r in table.rows if r[0] == 10)
+    # IEC 60228:2004, Table 2: 10 mm², class 2, plain copper, at most 1.83 ohm/km at 20 °C.
+    check(row[table.columns.index("copper_plain")] == 1.83, f"IEC 60228 Table 2 10 mm² row is {row}")
+    print(f"ok getTable table={table.table_id} rows={table.row_count}")
 
 
 def call_resistance(client: AnyClient) -> None:

@@ -54,6 +54,19 @@ async function reference(): Promise<void> {
   check(listed.data.count === listed.data.conductors.length && listed.data.count > 0, "listConductors count differs");
   check(listed.data.conductors.every((c) => c.material === "aluminium"), "listConductors ignored its filter");
   console.log(`ok listConductors count=${listed.data.count}`);
+  const tables = await client.GET("/v1/tables");
+  check(tables.data !== undefined, `listTables answered ${tables.response.status}`);
+  check(tables.data.count === tables.data.tables.length && tables.data.count === meta.data.tables.length,
+    "listTables count differs from its list or the meta");
+  console.log(`ok listTables count=${tables.data.count}`);
+  const table = await client.GET("/v1/tables/{table_id}", { params: { path: { table_id: "nec-ch9-table8" } } });
+  check(table.data !== undefined, `getTable answered ${table.response.status}`);
+  const columns = table.data.columns;
+  check(table.data.rows.every((r) => r.length === columns.length), "getTable rows and columns differ");
+  const row = table.data.rows.find((r) => r[columns.indexOf("size")] === "6" && r[columns.indexOf("stranding")] === "stranded");
+  // NFPA 70-2023, Chapter 9, Table 8: 6 AWG stranded uncoated copper, 0.491 ohm/kFT at 75 °C.
+  check(row !== undefined && row[columns.indexOf("copper_uncoated")] === 0.491, `Table 8 6 AWG row is ${JSON.stringify(row)}`);
+  console.log(`ok getTable table=${table.data.table_id} rows=${table.data.row_count}`);
 }
 
 async function resistance(): Promise<void> {
