@@ -20,6 +20,7 @@ from litestar.openapi.plugins import JsonRenderPlugin, YamlRenderPlugin
 from litestar.openapi.spec import Example
 
 from service.api.contract_http import document_http_conventions
+from service.api.contract_schemas import finish_schemas
 from service.api.schemas.v1.common import Strict
 
 CONTRACT_PATH = Path(__file__).resolve().parents[2] / "openapi" / "v1" / "openapi.yaml"
@@ -148,20 +149,26 @@ _ACCESS_HEADERS = {
 def _document_access(document: dict[str, Any]) -> None:
     """The optional API key as a security scheme, and the headers of the 401 and 429 answers.
 
-    litestar's ResponseSpec carries no headers, and the key is optional (off unless configured), so every
-    guarded operation (one that documents 401) accepts either the key or nothing: ``[{apiKey: []}, {}]``.
+    litestar's ResponseSpec carries no headers, and the key is optional (off unless configured), so the
+    document's security accepts either the key or nothing: ``[{apiKey: []}, {}]``, at the root (Python's generator
+    reads the empty alternative only there; at an operation it demands an authenticated client), and the
+    operations that never need a key (the probes) say ``security: []``.
     """
     guarded = False
     for item in document.get("paths", {}).values():
         for op in item.values():
-            if not isinstance(op, dict) or "401" not in op.get("responses", {}):
+            if not isinstance(op, dict):
+                continue
+            if "401" not in op.get("responses", {}):
+                op["security"] = []
                 continue
             guarded = True
-            op["security"] = [{SECURITY_SCHEME: []}, {}]
+            op.pop("security", None)
             for status, headers in _ACCESS_HEADERS.items():
                 if status in op["responses"]:
                     op["responses"][status]["headers"] = headers
     if guarded:
+        document["security"] = [{SECURITY_SCHEME: []}, {}]
         document.setdefault("components", {}).setdefault("securitySchemes", {})[SECURITY_SCHEME] = {
             "type": "http", "scheme": "bearer",
             "description": ("An API key issued by the operator, as `Authorization: Bearer <key>`. Needed only when "
@@ -220,6 +227,7 @@ def finish_contract(document: dict[str, Any]) -> dict[str, Any]:
         if struct_name in strict:
             schema["additionalProperties"] = False
             _copy_union_constraints(schema, _msgspec_component(msgspec_components, name))
+    finish_schemas(finished)
     return finished
 
 

@@ -49,7 +49,7 @@ from ampline_api_client.models import (
     ServiceMeta,
     SizingRequest,
     SizingResult,
-    SizingResultSizingVerdict,
+    SizingVerdict,
     TableDetail,
     TableList,
     VerifyRequest,
@@ -137,7 +137,7 @@ def call_sizing(client: AnyClient, examples: dict[str, Any]) -> None:
     sized = size_conductor.sync(client=client, body=SizingRequest.from_dict(examples["sizeConductor"]))
     check(isinstance(sized, SizingResult), f"sizeConductor answered {sized!r}")
     assert isinstance(sized, SizingResult)
-    check(isinstance(sized.verdict, SizingResultSizingVerdict), "sizeConductor verdict is not the typed enum")
+    check(isinstance(sized.verdict, SizingVerdict), "sizeConductor verdict is not the typed enum")
     size = sized.chosen.size_label if sized.chosen is not None else "none"
     print(f"ok sizeConductor verdict={sized.verdict.value} chosen={size}")
     verified = verify_conductor.sync(client=client, body=VerifyRequest.from_dict(examples["verifyConductor"]))
